@@ -1,0 +1,45 @@
+import { type ChildProcess, spawn } from 'node:child_process';
+import { testConfig } from './config';
+
+/**
+ * Starts what the integration and browser tests talk to: the local SMTP sink and the built app
+ * (`next start`) on the test port, against the test database that scripts/test.sh created.
+ */
+function start(name: string, command: string, args: string[]): ChildProcess {
+  const child = spawn(command, args, { stdio: ['ignore', 'pipe', 'pipe'], env: process.env });
+  const prefix = (chunk: Buffer) => chunk.toString().replace(/^(?=.)/gm, `[${name}] `);
+  child.stdout?.on('data', (chunk: Buffer) => {
+    if (process.env.TEST_VERBOSE) process.stdout.write(prefix(chunk));
+  });
+  child.stderr?.on('data', (chunk: Buffer) => process.stderr.write(prefix(chunk)));
+  return child;
+}
+
+async function waitFor(url: string, timeoutMs: number): Promise<void> {
+  const deadline = Date.now() + timeoutMs;
+  let lastError: unknown;
+  while (Date.now() < deadline) {
+    try {
+      const response = await fetch(url);
+      if (response.ok) return;
+      lastError = new Error(`status ${response.status}`);
+    } catch (error) {
+      lastError = error;
+    }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  throw new Error(`${url} did not answer within ${timeoutMs} ms: ${String(lastError)}`);
+}
+
+export default async function setup(): Promise<() => Promise<void>> {
+  const { port, baseUrl } = testConfig();
+  const sink = start('mail-sink', 'npx', ['tsx', 'scripts/mail-sink.ts']);
+  const app = start('app', 'npx', ['next', 'start', '-H', '127.0.0.1', '-p', String(port)]);
+  await waitFor(`${baseUrl}/api/health`, 60_000);
+  return async () => {
+    for (const child of [app, sink]) child.kill('SIGTERM');
+    await Promise.all(
+      [app, sink].map((child) => new Promise<void>((resolve) => (child.exitCode !== null ? resolve() : child.once('exit', () => resolve())))),
+    );
+  };
+}
