@@ -7,9 +7,8 @@ pg.types.setTypeParser(pg.types.builtins.INT8, (value: string) => Number.parseIn
 
 /** Builds a Kysely instance. The app uses the single one in db/index.ts; scripts and tests make their own. */
 export function createDb(connectionString: string, maxConnections = 10): Kysely<Database> {
-  return new Kysely<Database>({
-    dialect: new PostgresDialect({
-      pool: new pg.Pool({ connectionString, max: maxConnections }),
-    }),
-  });
+  const pool = new pg.Pool({ connectionString, max: maxConnections });
+  // An idle connection dropped by the server (restart, shutdown) must not crash the process.
+  pool.on('error', (error) => console.error('postgres: idle connection lost:', error.message));
+  return new Kysely<Database>({ dialect: new PostgresDialect({ pool }) });
 }

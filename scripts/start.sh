@@ -26,15 +26,16 @@ CHILDREN=()
 cleanup() {
   trap - INT TERM EXIT
   log "stopping"
-  for pid in "${CHILDREN[@]}"; do kill "$pid" 2>/dev/null || true; done
+  # Each child leads its own process group (setsid), so the whole tree behind npx goes.
+  for pid in "${CHILDREN[@]}"; do kill -TERM -- "-$pid" 2>/dev/null || true; done
   for pid in "${CHILDREN[@]}"; do wait "$pid" 2>/dev/null || true; done
   pg_stop_if_started_here
 }
 trap cleanup INT TERM EXIT
 
-npx tsx scripts/mail-sink.ts &
+setsid npx tsx scripts/mail-sink.ts &
 CHILDREN+=($!)
-npx next start -H 127.0.0.1 -p "$PORT" &
+setsid npx next start -H 127.0.0.1 -p "$PORT" &
 CHILDREN+=($!)
 
 wait_for_health "http://127.0.0.1:$PORT/api/health"

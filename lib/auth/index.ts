@@ -60,6 +60,13 @@ export const { handlers, auth, signIn, signOut } = NextAuth(() => {
         options: { httpOnly: true, sameSite: 'lax', path: '/', secure },
       },
     },
+    logger: {
+      // A wrong password is an answer, not a server fault: keep it out of the error log.
+      error(error) {
+        if (error.name === 'CredentialsSignin' || (error as { type?: string }).type === 'CredentialsSignin') return;
+        console.error('[auth]', error);
+      },
+    },
     pages: { signIn: '/sign-in', verifyRequest: '/sign-in/check-email', error: '/sign-in' },
     providers: [
       Credentials({

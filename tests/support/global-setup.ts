@@ -6,7 +6,8 @@ import { testConfig } from './config';
  * (`next start`) on the test port, against the test database that scripts/test.sh created.
  */
 function start(name: string, command: string, args: string[]): ChildProcess {
-  const child = spawn(command, args, { stdio: ['ignore', 'pipe', 'pipe'], env: process.env });
+  // Own process group, so that stopping it also stops what npx started underneath.
+  const child = spawn(command, args, { stdio: ['ignore', 'pipe', 'pipe'], env: process.env, detached: true });
   const prefix = (chunk: Buffer) => chunk.toString().replace(/^(?=.)/gm, `[${name}] `);
   child.stdout?.on('data', (chunk: Buffer) => {
     if (process.env.TEST_VERBOSE) process.stdout.write(prefix(chunk));
@@ -37,7 +38,9 @@ export default async function setup(): Promise<() => Promise<void>> {
   const app = start('app', 'npx', ['next', 'start', '-H', '127.0.0.1', '-p', String(port)]);
   await waitFor(`${baseUrl}/api/health`, 60_000);
   return async () => {
-    for (const child of [app, sink]) child.kill('SIGTERM');
+    for (const child of [app, sink]) {
+      if (child.pid !== undefined && child.exitCode === null) process.kill(-child.pid, 'SIGTERM');
+    }
     await Promise.all(
       [app, sink].map((child) => new Promise<void>((resolve) => (child.exitCode !== null ? resolve() : child.once('exit', () => resolve())))),
     );
