@@ -12,7 +12,7 @@ export const serverEnvSchema = z.object({
   DATABASE_URL: z.string().regex(/^postgres(ql)?:\/\//, 'must be a postgres:// connection string'),
   AUTH_SECRET: z.string().min(32, 'must be at least 32 characters'),
   /** Public base URL, used for links in e-mails. */
-  APP_URL: z.url().default('http://127.0.0.1:3000'),
+  APP_URL: z.url().default('http://localhost:3000'),
   SMTP_HOST: z.string().default('127.0.0.1'),
   SMTP_PORT: positiveInt(2525),
   /** true: implicit TLS (port 465 style); false: plain or STARTTLS. */

@@ -34,6 +34,9 @@ async function waitFor(url: string, timeoutMs: number): Promise<void> {
 
 export default async function setup(): Promise<() => Promise<void>> {
   const { port, baseUrl } = testConfig();
+  // A server left over from another run would answer for ours, against another database.
+  const stale = await fetch(`${baseUrl}/api/health`).then(() => true, () => false);
+  if (stale) throw new Error(`port ${port} is already in use: stop whatever listens there, or set TEST_PORT`);
   const sink = start('mail-sink', 'npx', ['tsx', 'scripts/mail-sink.ts']);
   const app = start('app', 'npx', ['next', 'start', '-H', '127.0.0.1', '-p', String(port)]);
   await waitFor(`${baseUrl}/api/health`, 60_000);
