@@ -1,10 +1,12 @@
 /**
  * Seeds the Larkspur Books demo (PRODUCT.md): one workspace, one account per role.
  * Idempotent; runs only when ASTERISM_DEMO_SEED=1, which `npm start` sets for the local demo.
+ * Run with `tsx --conditions=react-server` so that server-only modules load outside Next.js.
  */
 import type { Kysely } from 'kysely';
 import { hashPassword } from '../lib/auth/secrets';
 import { createDb } from './connection';
+import { seedDemoFactorSets } from './demo/seed-factor-sets';
 import type { Database, RoleColumn } from './types';
 
 export const DEMO_WORKSPACE_NAME = 'Larkspur Books';
@@ -17,8 +19,8 @@ export const DEMO_ACCOUNTS: { email: string; name: string; role: RoleColumn }[] 
   { email: 'viewer@demo.test', name: 'Ola Brisk (viewer)', role: 'viewer' },
 ];
 
-export async function seedDemo(db: Kysely<Database>, password: string): Promise<void> {
-  await db.transaction().execute(async (tx) => {
+export async function seedDemo(db: Kysely<Database>, password: string): Promise<{ workspaceId: string; ownerId: string }> {
+  return db.transaction().execute(async (tx) => {
     const userIds = new Map<string, string>();
     for (const account of DEMO_ACCOUNTS) {
       const existing = await tx.selectFrom('users').select('id').where('email', '=', account.email).executeTakeFirst();
@@ -64,6 +66,7 @@ export async function seedDemo(db: Kysely<Database>, password: string): Promise<
         .onConflict((oc) => oc.columns(['workspace_id', 'user_id']).doNothing())
         .execute();
     }
+    return { workspaceId, ownerId };
   });
 }
 
@@ -76,7 +79,10 @@ async function main(): Promise<void> {
   if (!url) throw new Error('DATABASE_URL is not set');
   const db = createDb(url, 2);
   try {
-    await seedDemo(db, process.env.DEMO_PASSWORD || 'asterism-demo');
+    const { workspaceId, ownerId } = await seedDemo(db, process.env.DEMO_PASSWORD || 'asterism-demo');
+    const started = Date.now();
+    const imported = await seedDemoFactorSets(db, workspaceId, ownerId);
+    if (imported.length) console.log(`seed: imported ${imported.join('; ')} in ${((Date.now() - started) / 1000).toFixed(1)} s`);
     console.log(`seed: demo workspace "${DEMO_WORKSPACE_NAME}" with ${DEMO_ACCOUNTS.length} accounts is ready`);
   } finally {
     await db.destroy();

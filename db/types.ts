@@ -82,6 +82,60 @@ export interface SignInFailuresTable {
   created_at: Generated<Date>;
 }
 
+export interface FactorSetsTable {
+  id: Generated<string>;
+  workspace_id: string;
+  name: string;
+  format: string;
+  rows: number;
+  dims: number;
+  draws: Generated<number>;
+  /** Entities per block of the N×K matrices. */
+  block_rows: number;
+  /** Entities per block of the aligned draws (entity-major: each entity's D×K draws together). */
+  draw_block_rows: number | null;
+  source_name: string;
+  source_bytes: number;
+  checksum_sha256: string;
+  metadata_columns: ColumnType<unknown, string, string>;
+  parse_report: ColumnType<unknown, string, string>;
+  joint_partner_id: string | null;
+  created_by: string | null;
+  created_at: Generated<Date>;
+}
+
+export interface FactorSetEntitiesTable {
+  factor_set_id: string;
+  idx: number;
+  entity_id: string;
+  label: string | null;
+  metadata: ColumnType<unknown, string | null, string | null>;
+  /** Mean distance of the entity's aligned draws from its mean; null without draws. */
+  spread: number | null;
+}
+
+export type BlockKind = 'values' | 'sd' | 'draws';
+
+export interface FactorSetBlocksTable {
+  factor_set_id: string;
+  kind: BlockKind;
+  block: number;
+  row_start: number;
+  row_count: number;
+  data: Buffer;
+}
+
+export interface FactorSetAlignmentsTable {
+  id: Generated<string>;
+  factor_set_id: string;
+  target_id: string;
+  matched: number;
+  disparity: number;
+  rotation: ColumnType<unknown, string, string>;
+  created_by: string | null;
+  created_at: Generated<Date>;
+}
+
 export interface Database {
   users: UsersTable;
   verification_tokens: VerificationTokensTable;
@@ -91,6 +145,10 @@ export interface Database {
   access_tokens: AccessTokensTable;
   password_resets: PasswordResetsTable;
   sign_in_failures: SignInFailuresTable;
+  factor_sets: FactorSetsTable;
+  factor_set_entities: FactorSetEntitiesTable;
+  factor_set_blocks: FactorSetBlocksTable;
+  factor_set_alignments: FactorSetAlignmentsTable;
 }
 
 export type UserRow = Selectable<UsersTable>;
@@ -106,3 +164,6 @@ export type NewInvitationRow = Insertable<InvitationsTable>;
 export type AccessTokenRow = Selectable<AccessTokensTable>;
 export type NewAccessTokenRow = Insertable<AccessTokensTable>;
 export type PasswordResetRow = Selectable<PasswordResetsTable>;
+export type FactorSetRow = Selectable<FactorSetsTable>;
+export type NewFactorSetRow = Insertable<FactorSetsTable>;
+export type FactorSetEntityRow = Selectable<FactorSetEntitiesTable>;

@@ -30,6 +30,13 @@ export const serverEnvSchema = z.object({
   SIGN_IN_FAILURE_WINDOW_MINUTES: positiveInt(15),
   INVITATION_TTL_DAYS: positiveInt(7),
   PASSWORD_RESET_TTL_MINUTES: positiveInt(60),
+  /** Where uploads wait between upload, preview and confirmation; removed after import or after an hour. */
+  UPLOAD_DIR: z.string().default('.data/uploads'),
+  /** Import limits: raise them for bigger fits, at the cost of server memory (about 3× the file). */
+  IMPORT_MAX_BYTES: positiveInt(2 * 1024 ** 3),
+  IMPORT_MAX_ROWS: positiveInt(2_000_000),
+  IMPORT_MAX_DIMS: positiveInt(512),
+  IMPORT_MAX_DRAWS: positiveInt(5_000),
 });
 
 export type ServerEnv = z.infer<typeof serverEnvSchema>;

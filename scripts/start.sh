@@ -19,7 +19,7 @@ export DEV_MAIL_DIR="$DATA_DIR/mail"
 export ASTERISM_DEMO_SEED="${ASTERISM_DEMO_SEED:-1}"
 
 npx tsx scripts/migrate.ts
-npx tsx db/seed.ts
+npx tsx --conditions=react-server db/seed.ts
 build_if_needed
 
 CHILDREN=()

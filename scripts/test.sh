@@ -26,7 +26,7 @@ export SIGN_IN_MAX_FAILURES_PER_ADDRESS="${SIGN_IN_MAX_FAILURES_PER_ADDRESS:-100
 rm -rf "$DEV_MAIL_DIR"
 
 npx tsx scripts/migrate.ts
-npx tsx db/seed.ts
+npx tsx --conditions=react-server db/seed.ts
 
 RESULTS="$DATA_DIR/test-results"
 rm -rf "$RESULTS" && mkdir -p "$RESULTS"
@@ -38,7 +38,7 @@ build_if_needed
 
 log "unit, integration and end-to-end tests (vitest)"
 set +e
-npx vitest run --reporter=default --reporter=json --outputFile.json="$RESULTS/vitest.json"
+npx vitest run --reporter=default --reporter=json --outputFile.json="$RESULTS/vitest.json" "$@"
 set -e
 
 node scripts/test-summary.mjs "$RESULTS"

@@ -1,5 +1,6 @@
 import 'server-only';
 import { z } from 'zod';
+import { ImportError } from '@/lib/import/types';
 import { ApiError } from './errors';
 
 export function json(data: unknown, init?: number | ResponseInit): Response {
@@ -14,6 +15,25 @@ export function errorResponse(status: number, code: string, message: string, det
   return json({ error: details === undefined ? { code, message } : { code, message, details } }, status);
 }
 
+/** Bad input in an uploaded file: 422 with the file, the first place, the first 20 places and the count. */
+export function importErrorResponse(error: ImportError): Response {
+  const first = error.places[0];
+  return json(
+    {
+      error: {
+        code: error.code,
+        message: error.message,
+        file: error.file,
+        line: first?.line ?? null,
+        column: first?.column ?? null,
+        places: error.places,
+        count: error.count,
+      },
+    },
+    422,
+  );
+}
+
 /** Wraps a route handler so that every failure becomes `{"error":{"code","message"}}` with its status. */
 export function apiRoute<Ctx>(handler: (request: Request, ctx: Ctx) => Promise<Response>) {
   return async (request: Request, ctx: Ctx): Promise<Response> => {
@@ -21,6 +41,7 @@ export function apiRoute<Ctx>(handler: (request: Request, ctx: Ctx) => Promise<R
       return await handler(request, ctx);
     } catch (error) {
       if (error instanceof ApiError) return errorResponse(error.status, error.code, error.message, error.details);
+      if (error instanceof ImportError) return importErrorResponse(error);
       console.error(`${request.method} ${new URL(request.url).pathname} failed`, error);
       return errorResponse(500, 'internal', 'Something went wrong on the server; it has been logged');
     }

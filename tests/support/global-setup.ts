@@ -33,6 +33,8 @@ async function waitFor(url: string, timeoutMs: number): Promise<void> {
 }
 
 export default async function setup(): Promise<() => Promise<void>> {
+  // Unit tests alone need no server: `ASTERISM_TEST_SERVER=0 npx vitest run tests/unit`.
+  if (process.env.ASTERISM_TEST_SERVER === '0') return async () => {};
   const { port, baseUrl } = testConfig();
   // A server left over from another run would answer for ours, against another database.
   const stale = await fetch(`${baseUrl}/api/health`).then(() => true, () => false);

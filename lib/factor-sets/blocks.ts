@@ -1,0 +1,103 @@
+import { endianness } from 'node:os';
+import type { BlockKind } from '@/db/types';
+import type { DbOrTx } from '@/lib/users/users';
+
+// Blocks are written as the platform's bytes; every server we run on is little-endian, as the format says.
+if (endianness() !== 'LE') throw new Error('Asterism stores float32 little-endian and needs a little-endian host');
+
+/** Target size of one stored block: large enough for few rows in the table, small enough that no value is ever huge. */
+export const BLOCK_TARGET_BYTES = 4 * 1024 * 1024;
+
+export function rowsPerBlock(floatsPerRow: number): number {
+  return Math.max(1, Math.floor(BLOCK_TARGET_BYTES / (floatsPerRow * 4)));
+}
+
+/** A view of a Float32Array range as little-endian bytes, without copying. */
+function bytesOf(data: Float32Array, start: number, length: number): Buffer {
+  return Buffer.from(data.buffer, data.byteOffset + start * 4, length * 4);
+}
+
+/** Writes an N×width matrix (row-major) as row blocks. */
+export async function writeMatrixBlocks(
+  db: DbOrTx,
+  factorSetId: string,
+  kind: BlockKind,
+  data: Float32Array,
+  rows: number,
+  width: number,
+  blockRows: number,
+): Promise<void> {
+  for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
+    const rowCount = Math.min(blockRows, rows - rowStart);
+    await db
+      .insertInto('factor_set_blocks')
+      .values({
+        factor_set_id: factorSetId,
+        kind,
+        block,
+        row_start: rowStart,
+        row_count: rowCount,
+        data: bytesOf(data, rowStart * width, rowCount * width),
+      })
+      .execute();
+  }
+}
+
+/**
+ * Writes D×N×K draws (draw-major, as aligned) entity-major, so that one entity's D×K draws sit in
+ * one block and the map can fetch a single entity's cloud cheaply.
+ */
+export async function writeDrawBlocks(
+  db: DbOrTx,
+  factorSetId: string,
+  draws: Float32Array,
+  drawCount: number,
+  rows: number,
+  dims: number,
+  blockRows: number,
+): Promise<void> {
+  const perEntity = drawCount * dims;
+  for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
+    const rowCount = Math.min(blockRows, rows - rowStart);
+    const out = new Float32Array(rowCount * perEntity);
+    for (let r = 0; r < rowCount; r += 1) {
+      for (let d = 0; d < drawCount; d += 1) {
+        const from = (d * rows + rowStart + r) * dims;
+        out.set(draws.subarray(from, from + dims), r * perEntity + d * dims);
+      }
+    }
+    await db
+      .insertInto('factor_set_blocks')
+      .values({ factor_set_id: factorSetId, kind: 'draws', block, row_start: rowStart, row_count: rowCount, data: bytesOf(out, 0, out.length) })
+      .execute();
+  }
+}
+
+/** Yields a stored matrix block by block, in row order, holding one block in memory at a time. */
+export async function* readBlocks(db: DbOrTx, factorSetId: string, kind: BlockKind): AsyncGenerator<{ rowStart: number; rowCount: number; data: Buffer }> {
+  let next = 0;
+  for (;;) {
+    const row = await db
+      .selectFrom('factor_set_blocks')
+      .select(['block', 'row_start', 'row_count', 'data'])
+      .where('factor_set_id', '=', factorSetId)
+      .where('kind', '=', kind)
+      .where('block', '>=', next)
+      .orderBy('block')
+      .limit(1)
+      .executeTakeFirst();
+    if (!row) return;
+    next = row.block + 1;
+    yield { rowStart: row.row_start, rowCount: row.row_count, data: row.data };
+  }
+}
+
+/** A whole stored N×width matrix as one Float32Array. */
+export async function readMatrix(db: DbOrTx, factorSetId: string, kind: BlockKind, rows: number, width: number): Promise<Float32Array> {
+  const out = new Float32Array(rows * width);
+  for await (const block of readBlocks(db, factorSetId, kind)) {
+    const floats = new Float32Array(block.data.buffer.slice(block.data.byteOffset, block.data.byteOffset + block.data.byteLength));
+    out.set(floats, block.rowStart * width);
+  }
+  return out;
+}
