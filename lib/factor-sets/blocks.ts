@@ -1,6 +1,7 @@
 import { endianness } from 'node:os';
 import type { BlockKind } from '@/db/types';
 import type { DbOrTx } from '@/lib/users/users';
+import type { BulkTransaction } from './bulk';
 
 // Blocks are written as the platform's bytes; every server we run on is little-endian, as the format says.
 if (endianness() !== 'LE') throw new Error('Asterism stores float32 little-endian and needs a little-endian host');
@@ -19,7 +20,7 @@ function bytesOf(data: Float32Array, start: number, length: number): Buffer {
 
 /** Writes an N×width matrix (row-major) as row blocks. */
 export async function writeMatrixBlocks(
-  db: DbOrTx,
+  tx: BulkTransaction,
   factorSetId: string,
   kind: BlockKind,
   data: Float32Array,
@@ -29,17 +30,16 @@ export async function writeMatrixBlocks(
 ): Promise<void> {
   for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
     const rowCount = Math.min(blockRows, rows - rowStart);
-    await db
-      .insertInto('factor_set_blocks')
-      .values({
+    await tx.execute(
+      tx.builder.insertInto('factor_set_blocks').values({
         factor_set_id: factorSetId,
         kind,
         block,
         row_start: rowStart,
         row_count: rowCount,
         data: bytesOf(data, rowStart * width, rowCount * width),
-      })
-      .execute();
+      }),
+    );
   }
 }
 
@@ -48,7 +48,7 @@ export async function writeMatrixBlocks(
  * one block and the map can fetch a single entity's cloud cheaply.
  */
 export async function writeDrawBlocks(
-  db: DbOrTx,
+  tx: BulkTransaction,
   factorSetId: string,
   draws: Float32Array,
   drawCount: number,
@@ -66,10 +66,11 @@ export async function writeDrawBlocks(
         out.set(draws.subarray(from, from + dims), r * perEntity + d * dims);
       }
     }
-    await db
-      .insertInto('factor_set_blocks')
-      .values({ factor_set_id: factorSetId, kind: 'draws', block, row_start: rowStart, row_count: rowCount, data: bytesOf(out, 0, out.length) })
-      .execute();
+    await tx.execute(
+      tx.builder
+        .insertInto('factor_set_blocks')
+        .values({ factor_set_id: factorSetId, kind: 'draws', block, row_start: rowStart, row_count: rowCount, data: bytesOf(out, 0, out.length) }),
+    );
   }
 }
 

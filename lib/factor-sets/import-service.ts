@@ -1,6 +1,6 @@
 import 'server-only';
 import path from 'node:path';
-import { type Kysely, sql } from 'kysely';
+import type { Kysely } from 'kysely';
 import type { Database } from '@/db/types';
 import { generalisedProcrustes } from '@/lib/align';
 import { serverEnv } from '@/lib/env';
@@ -8,6 +8,7 @@ import { parseFactorFile } from '@/lib/import/parse';
 import type { ImportLimits, ParsedFactors, ParsedMatrix, UploadedFile } from '@/lib/import/types';
 import type { ImportFields } from '@/lib/validation/factor-sets';
 import { rowsPerBlock, writeDrawBlocks, writeMatrixBlocks } from './blocks';
+import { type BulkTransaction, copyField, withBulkTransaction } from './bulk';
 import { type FactorSet, findFactorSet, type ImportReport } from './factor-sets';
 import type { StagedFile } from './staging';
 
@@ -74,54 +75,34 @@ function prepare(parsed: ParsedFactors): { main: Prepared; partner?: Prepared; a
   };
 }
 
-const ENTITY_BATCH = 20_000;
+const COPY_CHUNK_ROWS = 5_000;
 
-async function writeEntities(
-  tx: Kysely<Database>,
+/** Entity rows as COPY text, a few thousand lines per chunk, so memory stays flat for a million entities. */
+function* entityCopyChunks(
   factorSetId: string,
   ids: string[],
   labels: (string | null)[] | null,
   metadata: ParsedFactors['metadata'] | null,
   columns: ParsedFactors['metadataColumns'],
   spread: Float32Array | null,
-): Promise<void> {
-  // unnest() over arrays: four parameters per batch however many rows, far faster than VALUES lists.
-  for (let start = 0; start < ids.length; start += ENTITY_BATCH) {
-    const end = Math.min(ids.length, start + ENTITY_BATCH);
-    const idx: number[] = [];
-    const entity: string[] = [];
-    const label: (string | null)[] = [];
-    const meta: (string | null)[] = [];
-    const spreads: (number | null)[] = [];
-    for (let i = start; i < end; i += 1) {
-      idx.push(i);
-      entity.push(ids[i] ?? '');
-      label.push(labels?.[i] ?? null);
-      const values = metadata?.[i];
-      meta.push(values && columns.length ? JSON.stringify(Object.fromEntries(columns.map((c, j) => [c.name, values[j] ?? null]))) : null);
-      spreads.push(spread ? (spread[i] ?? null) : null);
+): Generator<string> {
+  let lines: string[] = [];
+  for (let i = 0; i < ids.length; i += 1) {
+    const values = metadata?.[i];
+    const meta = values && columns.length ? JSON.stringify(Object.fromEntries(columns.map((c, j) => [c.name, values[j] ?? null]))) : null;
+    lines.push(
+      `${factorSetId}\t${i}\t${copyField(ids[i] ?? '')}\t${copyField(labels?.[i] ?? null)}\t${copyField(meta)}\t${copyField(spread ? (spread[i] ?? null) : null)}\n`,
+    );
+    if (lines.length === COPY_CHUNK_ROWS) {
+      yield lines.join('');
+      lines = [];
     }
-    await sqlInsertEntities(tx, factorSetId, idx, entity, label, meta, spreads);
   }
-}
-
-async function sqlInsertEntities(
-  tx: Kysely<Database>,
-  factorSetId: string,
-  idx: number[],
-  entity: string[],
-  label: (string | null)[],
-  meta: (string | null)[],
-  spread: (number | null)[],
-): Promise<void> {
-  await sql`
-    insert into factor_set_entities (factor_set_id, idx, entity_id, label, metadata, spread)
-    select ${factorSetId}::uuid, * from unnest(${idx}::int[], ${entity}::text[], ${label}::text[], ${meta}::jsonb[], ${spread}::real[])
-  `.execute(tx);
+  if (lines.length) yield lines.join('');
 }
 
 async function insertPrepared(
-  tx: Kysely<Database>,
+  tx: BulkTransaction,
   input: {
     workspaceId: string;
     userId: string;
@@ -140,9 +121,10 @@ async function insertPrepared(
   const rows = prepared.ids.length;
   const blockRows = rowsPerBlock(prepared.dims);
   const drawBlockRows = prepared.draws ? rowsPerBlock(prepared.draws.count * prepared.dims) : null;
-  const row = await tx
-    .insertInto('factor_sets')
-    .values({
+  const [row] = await tx.execute(
+    tx.builder
+      .insertInto('factor_sets')
+      .values({
       workspace_id: input.workspaceId,
       name: input.name,
       format: input.format,
@@ -158,10 +140,14 @@ async function insertPrepared(
       parse_report: JSON.stringify(input.report),
       joint_partner_id: input.jointPartnerId ?? null,
       created_by: input.userId,
-    })
-    .returning('id')
-    .executeTakeFirstOrThrow();
-  await writeEntities(tx, row.id, prepared.ids, input.labels, input.metadata, input.metadataColumns, prepared.draws?.spread ?? null);
+      })
+      .returning('id'),
+  );
+  if (!row) throw new Error('insert into factor_sets returned no row');
+  await tx.copy(
+    'copy factor_set_entities (factor_set_id, idx, entity_id, label, metadata, spread) from stdin',
+    entityCopyChunks(row.id, prepared.ids, input.labels, input.metadata, input.metadataColumns, prepared.draws?.spread ?? null),
+  );
   await writeMatrixBlocks(tx, row.id, 'values', prepared.values, rows, prepared.dims, blockRows);
   if (prepared.draws && drawBlockRows) {
     await writeMatrixBlocks(tx, row.id, 'sd', prepared.draws.sd, rows, prepared.dims, blockRows);
@@ -193,7 +179,7 @@ export async function storeImport(
     parameter: fields.options.parameter,
     alignment,
   };
-  const ids = await db.transaction().execute(async (tx) => {
+  const ids = await withBulkTransaction(db, async (tx) => {
     const mainId = await insertPrepared(tx, {
       workspaceId: input.workspaceId,
       userId: input.userId,
@@ -220,7 +206,7 @@ export async function storeImport(
       metadataColumns: [],
       jointPartnerId: mainId,
     });
-    await tx.updateTable('factor_sets').set({ joint_partner_id: partnerId }).where('id', '=', mainId).execute();
+    await tx.execute(tx.builder.updateTable('factor_sets').set({ joint_partner_id: partnerId }).where('id', '=', mainId));
     return { mainId, partnerId };
   });
   const factorSet = await findFactorSet(db, ids.mainId);

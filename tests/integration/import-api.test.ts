@@ -171,6 +171,16 @@ describe('importing factor sets through the API', () => {
     expect(again.status).toBe(404);
   });
 
+  it('deleting a workspace removes its factor sets, entities and blocks', async () => {
+    const before = await storedCounts();
+    const made = await api<{ id: string }>('POST', '/api/workspaces', { token: f.members.analyst.token, body: { name: 'Short-lived' } });
+    const csv = wideCsv(['x', 'y', 'z'], float32Sequence(9, 2), 3);
+    expect((await upload(`/api/workspaces/${made.body.id}/factor-sets`, f.members.analyst.token, { file: { content: csv, filename: 'x.csv' } })).status).toBe(201);
+    expect((await storedCounts()).entities).toBe(before.entities + 3);
+    expect((await api('DELETE', `/api/workspaces/${made.body.id}`, { token: f.members.analyst.token })).status).toBe(204);
+    expect(await storedCounts()).toEqual(before);
+  });
+
   it('aligns one factor set onto a rotated copy of itself with disparity ≈ 0', async () => {
     const n = 30;
     const k = 3;

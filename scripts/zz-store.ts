@@ -1,0 +1,15 @@
+import { createDb } from '../db/connection';
+import { parseImport, storeImport } from '../lib/factor-sets/import-service';
+import { describeLocalFile } from '../lib/factor-sets/staging';
+const db = createDb(process.env.DATABASE_URL ?? '', 4);
+const file = process.argv[2] ?? '';
+const ws = await db.selectFrom('workspaces').select('id').executeTakeFirstOrThrow();
+const user = await db.selectFrom('users').select('id').executeTakeFirstOrThrow();
+let t = performance.now();
+const source = { file: await describeLocalFile(file) };
+console.log('hash', ((performance.now() - t) / 1000).toFixed(2)); t = performance.now();
+const parsed = await parseImport(source, { options: {} }, { maxBytes: 4e9, maxRows: 4e6, maxDims: 512, maxDraws: 5000 });
+console.log('parse', ((performance.now() - t) / 1000).toFixed(2)); t = performance.now();
+await storeImport(db, { workspaceId: ws.id, userId: user.id, source, fields: { options: {} }, parsed });
+console.log('store', ((performance.now() - t) / 1000).toFixed(2), 'rss', (process.memoryUsage().rss / 1e6).toFixed(0));
+await db.destroy();
