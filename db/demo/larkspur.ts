@@ -41,13 +41,13 @@ export function surveyDraws(seed = 5000): { draws: Float32Array; labelsCsv: stri
   const centres = Array.from({ length: segments * k }, () => normal() * 1.2);
   const truth = new Float64Array(n * k);
   const noise = new Float64Array(n);
-  const labels = ['respondent_id,segment,answered,region'];
+  const labels = ['respondent_id,label,segment,answered,region'];
   for (let i = 0; i < n; i += 1) {
     const segment = i % segments;
     for (let c = 0; c < k; c += 1) truth[i * k + c] = (centres[segment * k + c] ?? 0) + normal() * 0.35;
     const answered = 5 + Math.floor(uniform() * 36);
     noise[i] = 0.6 / Math.sqrt(answered);
-    labels.push(`${i + 1},segment ${String.fromCharCode(65 + segment)},${answered},${['north', 'south', 'east', 'west'][i % 4]}`);
+    labels.push(`${i + 1},Respondent ${String(i + 1).padStart(4, '0')},segment ${String.fromCharCode(65 + segment)},${answered},${['north', 'south', 'east', 'west'][i % 4]}`);
   }
   const draws = new Float32Array(d * n * k);
   const noisy = new Float64Array(k);

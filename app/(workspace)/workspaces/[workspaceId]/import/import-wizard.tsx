@@ -257,7 +257,7 @@ function ImportFailureReport({ failure }: { failure: ImportFailure }) {
   return (
     <div role="alert" className="flex flex-col gap-2 border border-danger/50 bg-danger-wash p-4 text-sm">
       <p className="font-semibold text-danger">
-        {failure.file ? `${failure.file}: ` : ''}
+        {failure.file && !failure.message.startsWith(failure.file) ? `${failure.file}: ` : ''}
         {failure.message}
       </p>
       {places.length > 0 && (
