@@ -75,11 +75,22 @@ pg_start() {
   PGPASSWORD="$(cat "$DATA_DIR/pg-password")"
   export PGPASSWORD
   if ! as_pg_owner "$PGBIN/pg_ctl" -D "$PGDATA" status >/dev/null 2>&1; then
+    if port_in_use "$PGPORT"; then
+      echo "Port $PGPORT is taken by another server (another checkout's PostgreSQL?). Stop it, or choose another port: PGPORT=54330 npm ..." >&2
+      exit 1
+    fi
     log "starting PostgreSQL on 127.0.0.1:$PGPORT"
     as_pg_owner "$PGBIN/pg_ctl" -D "$PGDATA" -l "$PGDATA/server.log" -w -t 60 \
       -o "-c listen_addresses=127.0.0.1 -p $PGPORT -c unix_socket_directories=''" start >/dev/null
     PG_STARTED_HERE=1
   fi
+}
+
+port_in_use() {
+  node -e '
+    const socket = require("net").connect({ host: "127.0.0.1", port: Number(process.argv[1]) });
+    socket.on("connect", () => process.exit(0));
+    socket.on("error", () => process.exit(1));' "$1"
 }
 
 pg_stop_if_started_here() {

@@ -59,6 +59,16 @@ export function describeIssues(error: z.ZodError): { message: string; details: {
   return { message, details };
 }
 
+/** Validates an input with its zod schema; a refusal is a 400 naming each field. */
+export function validated<S extends z.ZodType>(schema: S, input: unknown): z.output<S> {
+  const parsed = schema.safeParse(input);
+  if (!parsed.success) {
+    const { message, details } = describeIssues(parsed.error);
+    throw new ApiError(400, 'invalid_input', message, details);
+  }
+  return parsed.data;
+}
+
 /** Reads a JSON body and validates it with the input's zod schema (the same one its form uses). */
 export async function readJson<S extends z.ZodType>(request: Request, schema: S): Promise<z.output<S>> {
   const type = request.headers.get('content-type') ?? '';
@@ -75,10 +85,5 @@ export async function readJson<S extends z.ZodType>(request: Request, schema: S)
   } catch (error) {
     throw new ApiError(400, 'invalid_json', `The body is not valid JSON: ${(error as Error).message}`);
   }
-  const parsed = schema.safeParse(body);
-  if (!parsed.success) {
-    const { message, details } = describeIssues(parsed.error);
-    throw new ApiError(400, 'invalid_input', message, details);
-  }
-  return parsed.data;
+  return validated(schema, body);
 }

@@ -1,8 +1,8 @@
 import 'server-only';
 import type { Kysely } from 'kysely';
 import type { Database } from '@/db/types';
-import { ApiError, notFound } from '@/lib/api/errors';
-import { describeIssues } from '@/lib/api/route';
+import { notFound } from '@/lib/api/errors';
+import { validated } from '@/lib/api/route';
 import type { MetadataColumn, MetadataValue, ParsedFactors } from '@/lib/import/types';
 import type { User } from '@/lib/users/users';
 import { type ImportFields, importFieldsSchema } from '@/lib/validation/factor-sets';
@@ -17,12 +17,7 @@ import { discardStaged, recallStaged, rememberStaged, stageMultipart } from './s
  */
 
 function fieldsOf(raw: Record<string, string>): ImportFields {
-  const parsed = importFieldsSchema.safeParse(raw);
-  if (!parsed.success) {
-    const { message, details } = describeIssues(parsed.error);
-    throw new ApiError(400, 'invalid_input', message, details);
-  }
-  return parsed.data;
+  return validated(importFieldsSchema, raw);
 }
 
 export interface ImportResult {

@@ -1,6 +1,5 @@
 import { db } from '@/db';
-import { ApiError } from '@/lib/api/errors';
-import { apiRoute, describeIssues, json } from '@/lib/api/route';
+import { apiRoute, json, validated } from '@/lib/api/route';
 import { requireActor } from '@/lib/auth/actor';
 import { requireFactorSetAccess } from '@/lib/factor-sets/access';
 import { type EntitySort, listEntities } from '@/lib/factor-sets/factor-sets';
@@ -13,12 +12,7 @@ export const GET = apiRoute(async (request, ctx: Ctx) => {
   const { factorSetId } = await ctx.params;
   const { user } = await requireActor(request);
   await requireFactorSetAccess(db, user.id, factorSetId, 'workspace.view');
-  const parsed = entityQuerySchema.safeParse(Object.fromEntries(new URL(request.url).searchParams));
-  if (!parsed.success) {
-    const { message, details } = describeIssues(parsed.error);
-    throw new ApiError(400, 'invalid_input', message, details);
-  }
-  const q = parsed.data;
+  const q = validated(entityQuerySchema, Object.fromEntries(new URL(request.url).searchParams));
   const page = await listEntities(db, factorSetId, {
     offset: (q.page - 1) * q.pageSize,
     limit: q.pageSize,

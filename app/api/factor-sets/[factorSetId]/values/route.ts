@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import { db } from '@/db';
 import { ApiError } from '@/lib/api/errors';
-import { apiRoute } from '@/lib/api/route';
+import { apiRoute, validated } from '@/lib/api/route';
 import { requireActor } from '@/lib/auth/actor';
 import { requireFactorSetAccess } from '@/lib/factor-sets/access';
 import { binaryStream, csvStream } from '@/lib/factor-sets/export';
@@ -20,9 +20,8 @@ export const GET = apiRoute(async (request, ctx: Ctx) => {
   const { factorSetId } = await ctx.params;
   const { user } = await requireActor(request);
   const { factorSet } = await requireFactorSetAccess(db, user.id, factorSetId, 'workspace.view');
-  const query = querySchema.safeParse(Object.fromEntries(new URL(request.url).searchParams));
-  if (!query.success) throw new ApiError(400, 'invalid_input', 'format is binary or csv; kind is values or sd');
-  if (query.data.kind === 'sd' && factorSet.draws === 0) {
+  const query = validated(querySchema, Object.fromEntries(new URL(request.url).searchParams));
+  if (query.kind === 'sd' && factorSet.draws === 0) {
     throw new ApiError(404, 'not_found', 'This factor set has no posterior draws, so no standard deviations');
   }
   const headers = {
@@ -30,12 +29,12 @@ export const GET = apiRoute(async (request, ctx: Ctx) => {
     'X-Dims': String(factorSet.dims),
     'Cache-Control': 'private, no-store',
   };
-  if (query.data.format === 'csv') {
-    return new Response(csvStream(db, factorSet.id, query.data.kind, factorSet.dims), {
-      headers: { ...headers, 'Content-Type': 'text/csv; charset=utf-8', 'Content-Disposition': `attachment; filename="${factorSet.id}-${query.data.kind}.csv"` },
+  if (query.format === 'csv') {
+    return new Response(csvStream(db, factorSet.id, query.kind, factorSet.dims), {
+      headers: { ...headers, 'Content-Type': 'text/csv; charset=utf-8', 'Content-Disposition': `attachment; filename="${factorSet.id}-${query.kind}.csv"` },
     });
   }
-  return new Response(binaryStream(db, factorSet.id, query.data.kind), {
+  return new Response(binaryStream(db, factorSet.id, query.kind), {
     headers: { ...headers, 'Content-Type': 'application/octet-stream', 'Content-Length': String(factorSet.rows * factorSet.dims * 4) },
   });
 });
