@@ -10,8 +10,16 @@ const typecheck = readFileSync(path.join(dir, 'typecheck'), 'utf8').trim();
 if (typecheck === 'pass') passed += 1;
 else failed += 1;
 
+const buildFailed = existsSync(path.join(dir, 'build'));
+if (buildFailed) {
+  console.error('next build failed: no tests were run against the app');
+  failed += 1;
+}
+
 const vitestFile = path.join(dir, 'vitest.json');
-if (existsSync(vitestFile)) {
+if (buildFailed) {
+  // Nothing else ran.
+} else if (existsSync(vitestFile)) {
   const report = JSON.parse(readFileSync(vitestFile, 'utf8'));
   passed += report.numPassedTests;
   failed += report.numFailedTests;

@@ -34,7 +34,11 @@ rm -rf "$RESULTS" && mkdir -p "$RESULTS"
 log "type check (tsc --noEmit)"
 if npx tsc --noEmit; then echo pass >"$RESULTS/typecheck"; else echo fail >"$RESULTS/typecheck"; fi
 
-build_if_needed
+# A failed build would leave the tests talking to an old one: count it and stop there.
+if ! build_if_needed; then
+  echo fail >"$RESULTS/build"
+  node scripts/test-summary.mjs "$RESULTS"
+fi
 
 log "unit, integration and end-to-end tests (vitest)"
 set +e

@@ -42,7 +42,7 @@ describe('importing in Chromium', () => {
     await page.getByLabel('Name').fill('Autumn refit');
     await page.getByRole('button', { name: 'Upload and check' }).click();
     await page.getByTestId('upload-progress').waitFor();
-    expect(await page.getByTestId('upload-progress').textContent()).toMatch(/Sent .* (of|;)/);
+    expect(await page.getByTestId('upload-progress').textContent()).toMatch(/^Sent [0-9.]+ (B|KiB|MiB)(; reading the file| of [0-9.]+ (B|KiB|MiB))/);
 
     const report = page.getByTestId('parse-report');
     await report.waitFor();

@@ -171,6 +171,59 @@ describe('importing factor sets through the API', () => {
     expect(again.status).toBe(404);
   });
 
+  it('imports row and column factors of one fit as joint partners, aligned with the same rotation per draw', async () => {
+    const [n, m, k, draws] = [20, 8, 2, 30];
+    const gamma = float32Sequence(n * k, 21);
+    const delta = float32Sequence(m * k, 22);
+    const header = ['chain', 'iteration', 'lp__'];
+    for (let i = 1; i <= n; i += 1) for (let c = 1; c <= k; c += 1) header.push(`gamma.${i}.${c}`);
+    for (let j = 1; j <= m; j += 1) for (let c = 1; c <= k; c += 1) header.push(`delta.${j}.${c}`);
+    const lines = [header.join(',')];
+    for (let d = 0; d < draws; d += 1) {
+      // Each draw is the same fit under its own rotation (and, every other draw, a reflection).
+      const angle = d * 0.7;
+      const flip = d % 2 ? -1 : 1;
+      const rotate = (x: number, y: number) => [Math.cos(angle) * x - Math.sin(angle) * y, flip * (Math.sin(angle) * x + Math.cos(angle) * y)];
+      const row: string[] = ['1', String(d + 1), '-12.5'];
+      for (let i = 0; i < n; i += 1) row.push(...rotate(gamma[i * k] ?? 0, gamma[i * k + 1] ?? 0).map(String));
+      for (let j = 0; j < m; j += 1) row.push(...rotate(delta[j * k] ?? 0, delta[j * k + 1] ?? 0).map(String));
+      lines.push(row.join(','));
+    }
+    const answer = await upload<{ id: string; rows: number; dims: number; draws: number; partner: { id: string; rows: number } }>(base, f.members.analyst.token, {
+      file: { content: `${lines.join('\n')}\n`, filename: 'fit-draws.csv' },
+      fields: { name: 'Shops × categories', options: JSON.stringify({ parameter: 'gamma', partnerParameter: 'delta' }) },
+    });
+    expect(answer.status, JSON.stringify(answer.body)).toBe(201);
+    expect(answer.body).toMatchObject({ rows: n, dims: k, draws, partner: { rows: m } });
+    const main = await api<{ jointPartnerId: string; report: { alignment: { joint: boolean } } }>('GET', `/api/factor-sets/${answer.body.id}`, { token: f.members.viewer.token });
+    expect(main.body.jointPartnerId).toBe(answer.body.partner.id);
+    expect(main.body.report.alignment.joint).toBe(true);
+    const partner = await api<{ jointPartnerId: string }>('GET', `/api/factor-sets/${answer.body.partner.id}`, { token: f.members.viewer.token });
+    expect(partner.body.jointPartnerId).toBe(answer.body.id);
+
+    // Only the product γ_i·δ_j is identified: the aligned means must reproduce it.
+    const g = (await binaryValues(answer.body.id, f.members.viewer.token)).values;
+    const dl = (await binaryValues(answer.body.partner.id, f.members.viewer.token)).values;
+    let worst = 0;
+    for (let i = 0; i < n; i += 1) {
+      for (let j = 0; j < m; j += 1) {
+        const truth = (gamma[i * k] ?? 0) * (delta[j * k] ?? 0) + (gamma[i * k + 1] ?? 0) * (delta[j * k + 1] ?? 0);
+        const got = (g[i * k] ?? 0) * (dl[j * k] ?? 0) + (g[i * k + 1] ?? 0) * (dl[j * k + 1] ?? 0);
+        worst = Math.max(worst, Math.abs(got - truth));
+      }
+    }
+    expect(worst).toBeLessThan(1e-4);
+  });
+
+  it('takes a matrix written by R’s write.csv (unnamed, quoted row-name column)', async () => {
+    const csv = '"","V1","V2"\r\n"Larkspur Ashby",0.5,1.25\r\n"Larkspur Dunmere",-2,3\r\n';
+    const answer = await upload<{ id: string; rows: number; dims: number }>(base, f.members.analyst.token, { file: { content: csv, filename: 'from-r.csv' } });
+    expect(answer.status, JSON.stringify(answer.body)).toBe(201);
+    expect(answer.body).toMatchObject({ rows: 2, dims: 2 });
+    const entities = await api<{ items: { id: string }[] }>('GET', `/api/factor-sets/${answer.body.id}/entities`, { token: f.members.viewer.token });
+    expect(entities.body.items.map((e) => e.id)).toEqual(['Larkspur Ashby', 'Larkspur Dunmere']);
+  });
+
   it('deleting a workspace removes its factor sets, entities and blocks', async () => {
     const before = await storedCounts();
     const made = await api<{ id: string }>('POST', '/api/workspaces', { token: f.members.analyst.token, body: { name: 'Short-lived' } });
