@@ -2,8 +2,8 @@
 const nextConfig = {
   poweredByHeader: false,
   reactStrictMode: true,
-  // Native password hashing must stay a runtime require, not a bundled module.
-  serverExternalPackages: ['@node-rs/argon2'],
+  // Native password hashing and the job queue stay runtime requires, not bundled modules.
+  serverExternalPackages: ['@node-rs/argon2', 'pg-boss'],
   async headers() {
     return [
       {

@@ -6,7 +6,7 @@
 import type { Kysely } from 'kysely';
 import { hashPassword } from '../lib/auth/secrets';
 import { createDb } from './connection';
-import { seedDemoFactorSets } from './demo/seed-factor-sets';
+import { queueDemoProjections, seedDemoFactorSets } from './demo/seed-factor-sets';
 import type { Database, RoleColumn } from './types';
 
 export const DEMO_WORKSPACE_NAME = 'Larkspur Books';
@@ -83,6 +83,10 @@ async function main(): Promise<void> {
     const started = Date.now();
     const imported = await seedDemoFactorSets(db, workspaceId, ownerId);
     if (imported.length) console.log(`seed: imported ${imported.join('; ')} in ${((Date.now() - started) / 1000).toFixed(1)} s`);
+    if (process.env.ASTERISM_DEMO_PROJECTIONS !== '0') {
+      const queued = await queueDemoProjections(db, workspaceId, ownerId);
+      if (queued) console.log(`seed: queued ${queued} demo projections (PCA and UMAP of each factor set) for the workers`);
+    }
     console.log(`seed: demo workspace "${DEMO_WORKSPACE_NAME}" with ${DEMO_ACCOUNTS.length} accounts is ready`);
   } finally {
     await db.destroy();

@@ -136,6 +136,41 @@ export interface FactorSetAlignmentsTable {
   created_at: Generated<Date>;
 }
 
+export type ProjectionStatus = 'queued' | 'running' | 'done' | 'failed' | 'cancelled';
+export type ProjectionMethodColumn = 'pca' | 'umap' | 'sammon' | 'tsne';
+
+export interface ProjectionsTable {
+  id: Generated<string>;
+  factor_set_id: string;
+  method: ProjectionMethodColumn;
+  params: ColumnType<unknown, string, string>;
+  params_key: string;
+  seed: number;
+  input_checksum: string;
+  status: ProjectionStatus;
+  progress: Generated<number>;
+  phase: string | null;
+  error: string | null;
+  quality: ColumnType<unknown, string | null, string | null>;
+  versions: ColumnType<unknown, string | null, string | null>;
+  job_id: string | null;
+  attempts: Generated<number>;
+  created_by: string | null;
+  created_at: Generated<Date>;
+  started_at: NullableTimestamp;
+  finished_at: NullableTimestamp;
+  duration_ms: number | null;
+}
+
+export interface ProjectionBlocksTable {
+  projection_id: string;
+  kind: 'coords' | 'fidelity';
+  block: number;
+  row_start: number;
+  row_count: number;
+  data: Buffer;
+}
+
 export interface Database {
   users: UsersTable;
   verification_tokens: VerificationTokensTable;
@@ -149,6 +184,8 @@ export interface Database {
   factor_set_entities: FactorSetEntitiesTable;
   factor_set_blocks: FactorSetBlocksTable;
   factor_set_alignments: FactorSetAlignmentsTable;
+  projections: ProjectionsTable;
+  projection_blocks: ProjectionBlocksTable;
 }
 
 export type UserRow = Selectable<UsersTable>;
@@ -167,3 +204,4 @@ export type PasswordResetRow = Selectable<PasswordResetsTable>;
 export type FactorSetRow = Selectable<FactorSetsTable>;
 export type NewFactorSetRow = Insertable<FactorSetsTable>;
 export type FactorSetEntityRow = Selectable<FactorSetEntitiesTable>;
+export type ProjectionRow = Selectable<ProjectionsTable>;

@@ -37,6 +37,10 @@ setsid npx tsx scripts/mail-sink.ts &
 CHILDREN+=($!)
 setsid npx next start -H 127.0.0.1 -p "$PORT" &
 CHILDREN+=($!)
+for _ in $(seq 1 "${WORKERS:-1}"); do
+  setsid npx tsx --conditions=react-server scripts/worker.ts &
+  CHILDREN+=($!)
+done
 
 wait_for_health "http://127.0.0.1:$PORT/api/health"
 
@@ -45,6 +49,7 @@ cat <<MSG
   Asterism is running at $APP_URL
     database   PostgreSQL on 127.0.0.1:$PGPORT (database $DB_NAME, data in .data/pg)
     mail sink  SMTP on 127.0.0.1:$SMTP_PORT; read the messages at $APP_URL/dev/mail
+    workers    ${WORKERS:-1} projection worker(s) on the job queue in the same database
 
   Demo accounts (workspace "Larkspur Books"), password: ${DEMO_PASSWORD:-asterism-demo}
     owner@demo.test  analyst@demo.test  expert@demo.test

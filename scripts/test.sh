@@ -21,6 +21,8 @@ export APP_URL="http://localhost:$TEST_PORT"
 export SMTP_HOST=127.0.0.1 SMTP_IGNORE_TLS=1
 export DEV_MAIL_DIR="$DATA_DIR/test-mail"
 export ASTERISM_DEMO_SEED=1
+# The demo's projection jobs would compete with the tests' own for the one test worker.
+export ASTERISM_DEMO_PROJECTIONS=0
 # The whole suite signs in from 127.0.0.1; the per-address limit is tested on its own.
 export SIGN_IN_MAX_FAILURES_PER_ADDRESS="${SIGN_IN_MAX_FAILURES_PER_ADDRESS:-10000}"
 rm -rf "$DEV_MAIL_DIR"

@@ -4,6 +4,9 @@ import path from 'node:path';
 import type { Kysely } from 'kysely';
 import { importLimits, parseImport, storeImport } from '../../lib/factor-sets/import-service';
 import { describeLocalFile } from '../../lib/factor-sets/staging';
+import { stopQueue } from '../../lib/jobs/queue';
+import { requestProjection } from '../../lib/projections/service';
+import { toUser } from '../../lib/users/users';
 import type { ImportFields } from '../../lib/validation/factor-sets';
 import type { Database } from '../types';
 import { larkspurShopsCsv, SURVEY, surveyDraws } from './larkspur';
@@ -68,4 +71,23 @@ export async function seedDemoFactorSets(db: Kysely<Database>, workspaceId: stri
     }
   }
   return created;
+}
+
+/** A PCA and a UMAP projection of every demo factor set, through the same request path as the API. */
+export async function queueDemoProjections(db: Kysely<Database>, workspaceId: string, ownerId: string): Promise<number> {
+  const owner = await db.selectFrom('users').selectAll().where('id', '=', ownerId).executeTakeFirstOrThrow();
+  const actor = toUser(owner);
+  const sets = await db.selectFrom('factor_sets').select('id').where('workspace_id', '=', workspaceId).execute();
+  let queued = 0;
+  try {
+    for (const set of sets) {
+      for (const method of ['pca', 'umap'] as const) {
+        const { existing } = await requestProjection(db, actor, set.id, { method, params: {}, seed: 42 });
+        if (!existing) queued += 1;
+      }
+    }
+  } finally {
+    await stopQueue();
+  }
+  return queued;
 }

@@ -41,13 +41,14 @@ export default async function setup(): Promise<() => Promise<void>> {
   if (stale) throw new Error(`port ${port} is already in use: stop whatever listens there, or set TEST_PORT`);
   const sink = start('mail-sink', 'npx', ['tsx', 'scripts/mail-sink.ts']);
   const app = start('app', 'npx', ['next', 'start', '-H', '127.0.0.1', '-p', String(port)]);
+  const worker = start('worker', 'npx', ['tsx', '--conditions=react-server', 'scripts/worker.ts']);
   await waitFor(`${baseUrl}/api/health`, 60_000);
   return async () => {
-    for (const child of [app, sink]) {
+    for (const child of [app, sink, worker]) {
       if (child.pid !== undefined && child.exitCode === null) process.kill(-child.pid, 'SIGTERM');
     }
     await Promise.all(
-      [app, sink].map((child) => new Promise<void>((resolve) => (child.exitCode !== null ? resolve() : child.once('exit', () => resolve())))),
+      [app, sink, worker].map((child) => new Promise<void>((resolve) => (child.exitCode !== null ? resolve() : child.once('exit', () => resolve())))),
     );
   };
 }

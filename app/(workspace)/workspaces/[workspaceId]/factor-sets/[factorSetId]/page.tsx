@@ -4,7 +4,9 @@ import { notFound } from 'next/navigation';
 import { db } from '@/db';
 import { findFactorSet } from '@/lib/factor-sets/factor-sets';
 import { workspaceForPage } from '@/lib/workspaces/page-access';
+import { can } from '@/lib/permissions';
 import { EntitiesTable } from './entities-table';
+import { ProjectionsPanel } from './projections-panel';
 
 export const metadata: Metadata = { title: 'Factor set' };
 
@@ -12,7 +14,7 @@ const when = new Intl.DateTimeFormat('en-GB', { dateStyle: 'medium', timeStyle: 
 
 export default async function FactorSetPage({ params }: { params: Promise<{ workspaceId: string; factorSetId: string }> }) {
   const { workspaceId, factorSetId } = await params;
-  const { workspace } = await workspaceForPage(workspaceId);
+  const { workspace, role } = await workspaceForPage(workspaceId);
   const factorSet = /^[0-9a-f-]{36}$/i.test(factorSetId) ? await findFactorSet(db, factorSetId) : undefined;
   if (!factorSet || factorSet.workspaceId !== workspace.id) notFound();
   const partner = factorSet.jointPartnerId ? await findFactorSet(db, factorSet.jointPartnerId) : undefined;
@@ -110,6 +112,7 @@ export default async function FactorSetPage({ params }: { params: Promise<{ work
           </>
         )}
       </p>
+      <ProjectionsPanel factorSetId={factorSet.id} mayRun={can(role, 'projections.run')} mayDelete={can(role, 'projections.delete')} />
       <EntitiesTable factorSetId={factorSet.id} metadataColumns={factorSet.metadataColumns} hasSpread={factorSet.draws > 0} />
     </div>
   );

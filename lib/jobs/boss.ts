@@ -1,0 +1,22 @@
+import PgBoss from 'pg-boss';
+
+/** The job queue lives in the same PostgreSQL, in its own schema; any number of workers on any machine may share it. */
+export const PROJECTION_QUEUE = 'projection';
+
+export interface ProjectionJob {
+  projectionId: string;
+}
+
+/**
+ * Queue policy. The time limit is also how a dead worker is noticed: a job still active after
+ * `expireInSeconds` is failed by pg-boss's supervisor and retried (up to `retryLimit`) by another.
+ */
+export const PROJECTION_JOB_OPTIONS = { retryLimit: 2, retryDelay: 5, expireInSeconds: 60 * 60 } as const;
+
+export async function startBoss(connectionString: string, options: { supervise: boolean }): Promise<PgBoss> {
+  const boss = new PgBoss({ connectionString, schema: 'pgboss', max: 4, supervise: options.supervise, schedule: false });
+  boss.on('error', (error) => console.error('job queue:', error));
+  await boss.start();
+  await boss.createQueue(PROJECTION_QUEUE, { name: PROJECTION_QUEUE, policy: 'standard', ...PROJECTION_JOB_OPTIONS });
+  return boss;
+}

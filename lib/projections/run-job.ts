@@ -1,0 +1,151 @@
+import type { Kysely } from 'kysely';
+import type { Database } from '@/db/types';
+import { mulberry32 } from '@/lib/align/random';
+import { readMatrix } from '@/lib/factor-sets/blocks';
+import { findFactorSet } from '@/lib/factor-sets/factor-sets';
+import { exactKnnParallel, type KnnGraph } from '@/lib/projection/knn';
+import { FIDELITY_KS, projectionFidelity } from '@/lib/projection/fidelity';
+import { runProjection } from '@/lib/projection/methods';
+import { findProjection, type ProjectionQuality, writeProjectionBlocks } from './projections';
+
+/**
+ * Above this many entities the exact fidelity scores (O(n²·d)) would take longer than the layout;
+ * they are left out until a sampled version exists.
+ */
+export const FIDELITY_MAX_ENTITIES = 20_000;
+const PROGRESS_INTERVAL_MS = 400;
+
+/** Keeps the first `k` neighbours of a larger graph, so one search serves UMAP and the scores. */
+function firstNeighbours(graph: KnnGraph, k: number): KnnGraph {
+  if (k >= graph.k) return graph;
+  const indices = new Int32Array(graph.n * k);
+  const distances = new Float32Array(graph.n * k);
+  for (let i = 0; i < graph.n; i += 1) {
+    indices.set(graph.indices.subarray(i * graph.k, i * graph.k + k), i * k);
+    distances.set(graph.distances.subarray(i * graph.k, i * graph.k + k), i * k);
+  }
+  return { ...graph, k, indices, distances };
+}
+
+class Cancelled extends Error {
+  override name = 'AbortError';
+}
+
+/**
+ * Runs one projection job: layout, fidelity scores, stored results. Cancellation is noticed at each
+ * progress report (the API marks the row cancelled). A failure is recorded on the projection and
+ * not rethrown: retrying a deterministic failure would fail the same way. A worker that dies
+ * mid-job leaves the row running; the queue retries the job after its time limit and this starts over.
+ */
+export async function runProjectionJob(db: Kysely<Database>, projectionId: string, options: { threads: number }): Promise<void> {
+  const projection = await findProjection(db, projectionId);
+  if (!projection || projection.status === 'done' || projection.status === 'cancelled') return;
+  const factorSet = await findFactorSet(db, projection.factorSetId);
+  if (!factorSet) return;
+  const started = Date.now();
+  const claimed = await db
+    .updateTable('projections')
+    .set((eb) => ({ status: 'running', started_at: new Date(), progress: 0, phase: 'loading factors', error: null, attempts: eb('attempts', '+', 1) }))
+    .where('id', '=', projectionId)
+    .where('status', 'in', ['queued', 'running'])
+    .executeTakeFirst();
+  // Cancelled between the read above and now.
+  if (claimed.numUpdatedRows === 0n) return;
+
+  const controller = new AbortController();
+  let lastWrite = 0;
+  let pending: Promise<void> = Promise.resolve();
+  const report = (progress: number, phase: string, force = false) => {
+    const now = Date.now();
+    if (!force && now - lastWrite < PROGRESS_INTERVAL_MS) return;
+    lastWrite = now;
+    pending = pending.then(async () => {
+      const row = await db
+        .updateTable('projections')
+        .set({ progress: Math.min(1, Math.max(0, progress)), phase })
+        .where('id', '=', projectionId)
+        .returning('status')
+        .executeTakeFirst();
+      if (!row || row.status === 'cancelled') controller.abort(new Cancelled('cancelled'));
+    }).catch((error: unknown) => console.error(`projection ${projectionId}: progress could not be written`, error));
+  };
+
+  try {
+    const n = factorSet.rows;
+    const d = factorSet.dims;
+    const values = await readMatrix(db, factorSet.id, 'values', n, d);
+    const metric = projection.params.metric === 'cosine' ? 'cosine' : 'euclidean';
+    const nNeighbors = typeof projection.params.nNeighbors === 'number' ? projection.params.nNeighbors : 15;
+    const scoreFidelity = n <= FIDELITY_MAX_ENTITIES;
+    const k = Math.min(n - 1, Math.max(nNeighbors, scoreFidelity ? Math.max(...FIDELITY_KS) : 0));
+    report(0.02, 'neighbour graph', true);
+    const knn = k >= 1 ? await exactKnnParallel(values, n, d, k, metric, { threads: options.threads, signal: controller.signal }) : undefined;
+    if (controller.signal.aborted) throw new Cancelled('cancelled');
+
+    const layoutShare = scoreFidelity ? 0.8 : 0.95;
+    const result = await runProjection({
+      data: values,
+      n,
+      d,
+      method: projection.method,
+      params: projection.params,
+      seed: projection.seed,
+      knn: knn ? firstNeighbours(knn, Math.min(nNeighbors, knn.k)) : undefined,
+      signal: controller.signal,
+      onProgress: (p, phase) => report(0.05 + layoutShare * p, phase),
+    });
+
+    let quality: ProjectionQuality | null = null;
+    let perPoint: Float32Array | null = null;
+    if (scoreFidelity) {
+      report(0.05 + layoutShare, 'fidelity scores', true);
+      const scores = projectionFidelity(values, n, d, result.coordinates, mulberry32(projection.seed), { metric, latentKnn: knn });
+      const byK = (values: Float64Array) =>
+        Object.fromEntries(Array.from(scores.ks, (kk, i) => [String(kk), Number.isFinite(values[i] ?? Number.NaN) ? (values[i] ?? null) : null]));
+      quality = {
+        trustworthiness: byK(scores.trustworthiness),
+        continuity: byK(scores.continuity),
+        knnPreservation: scores.knnPreservation,
+        shepardRho: scores.shepardRho,
+        stress: scores.stress,
+        ...(result.explainedVarianceRatio ? { explainedVariance: result.explainedVarianceRatio } : {}),
+        ...(result.stress !== undefined ? { sammonStress: result.stress } : {}),
+      };
+      perPoint = scores.perPoint;
+    }
+    await pending;
+    if (controller.signal.aborted) throw new Cancelled('cancelled');
+    await db.transaction().execute(async (tx) => {
+      await tx.deleteFrom('projection_blocks').where('projection_id', '=', projectionId).execute();
+      await writeProjectionBlocks(tx, projectionId, 'coords', result.coordinates, n, 2);
+      if (perPoint) await writeProjectionBlocks(tx, projectionId, 'fidelity', perPoint, n, 1);
+      await tx
+        .updateTable('projections')
+        .set({
+          status: 'done',
+          progress: 1,
+          phase: 'done',
+          params: JSON.stringify(result.params),
+          quality: quality ? JSON.stringify(quality) : null,
+          versions: JSON.stringify({ method: result.libraryVersion, asterism: process.env.npm_package_version ?? 'dev', node: process.version }),
+          finished_at: new Date(),
+          duration_ms: Date.now() - started,
+        })
+        .where('id', '=', projectionId)
+        .where('status', '=', 'running')
+        .execute();
+    });
+  } catch (error) {
+    await pending;
+    if (controller.signal.aborted || (error instanceof Error && error.name === 'AbortError')) {
+      await db.updateTable('projections').set({ status: 'cancelled', phase: 'cancelled', finished_at: new Date() }).where('id', '=', projectionId).execute();
+      return;
+    }
+    console.error(`projection ${projectionId} failed`, error);
+    await db
+      .updateTable('projections')
+      .set({ status: 'failed', error: error instanceof Error ? error.message : String(error), finished_at: new Date(), duration_ms: Date.now() - started })
+      .where('id', '=', projectionId)
+      .execute();
+  }
+}
