@@ -13,8 +13,45 @@ export function rowsPerBlock(floatsPerRow: number): number {
   return Math.max(1, Math.floor(BLOCK_TARGET_BYTES / (floatsPerRow * 4)));
 }
 
+/** The row ranges of a matrix cut into blocks of `blockRows` rows. */
+export function* blockRanges(rows: number, blockRows: number): Generator<{ block: number; rowStart: number; rowCount: number }> {
+  for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
+    yield { block, rowStart, rowCount: Math.min(blockRows, rows - rowStart) };
+  }
+}
+
+/** Reads stored blocks one at a time in block order; `fetchFrom(next)` returns the first block numbered ≥ next. */
+export async function* keysetBlocks<T extends { block: number }>(fetchFrom: (next: number) => Promise<T | undefined>): AsyncGenerator<T> {
+  let next = 0;
+  for (;;) {
+    const row = await fetchFrom(next);
+    if (!row) return;
+    next = row.block + 1;
+    yield row;
+  }
+}
+
+/** A stream of stored blocks' bytes, pulling the next block only when the reader wants it. */
+export function bytesStream(blocks: AsyncGenerator<Buffer>): ReadableStream<Uint8Array> {
+  return new ReadableStream<Uint8Array>({
+    async pull(controller) {
+      const next = await blocks.next();
+      if (next.done) controller.close();
+      else controller.enqueue(new Uint8Array(next.value.buffer, next.value.byteOffset, next.value.byteLength));
+    },
+    async cancel() {
+      await blocks.return(undefined);
+    },
+  });
+}
+
+/** A stored block's bytes as floats; copied, since node-pg's Buffers need not start 4-byte aligned. */
+export function floatsOf(data: Buffer): Float32Array {
+  return new Float32Array(data.buffer.slice(data.byteOffset, data.byteOffset + data.byteLength));
+}
+
 /** A view of a Float32Array range as little-endian bytes, without copying. */
-function bytesOf(data: Float32Array, start: number, length: number): Buffer {
+export function bytesOf(data: Float32Array, start: number, length: number): Buffer {
   return Buffer.from(data.buffer, data.byteOffset + start * 4, length * 4);
 }
 
@@ -28,8 +65,7 @@ export async function writeMatrixBlocks(
   width: number,
   blockRows: number,
 ): Promise<void> {
-  for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
-    const rowCount = Math.min(blockRows, rows - rowStart);
+  for (const { block, rowStart, rowCount } of blockRanges(rows, blockRows)) {
     await tx.execute(
       tx.builder.insertInto('factor_set_blocks').values({
         factor_set_id: factorSetId,
@@ -57,8 +93,7 @@ export async function writeDrawBlocks(
   blockRows: number,
 ): Promise<void> {
   const perEntity = drawCount * dims;
-  for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
-    const rowCount = Math.min(blockRows, rows - rowStart);
+  for (const { block, rowStart, rowCount } of blockRanges(rows, blockRows)) {
     const out = new Float32Array(rowCount * perEntity);
     for (let r = 0; r < rowCount; r += 1) {
       for (let d = 0; d < drawCount; d += 1) {
@@ -76,9 +111,8 @@ export async function writeDrawBlocks(
 
 /** Yields a stored matrix block by block, in row order, holding one block in memory at a time. */
 export async function* readBlocks(db: DbOrTx, factorSetId: string, kind: BlockKind): AsyncGenerator<{ rowStart: number; rowCount: number; data: Buffer }> {
-  let next = 0;
-  for (;;) {
-    const row = await db
+  const blocks = keysetBlocks((next) =>
+    db
       .selectFrom('factor_set_blocks')
       .select(['block', 'row_start', 'row_count', 'data'])
       .where('factor_set_id', '=', factorSetId)
@@ -86,19 +120,16 @@ export async function* readBlocks(db: DbOrTx, factorSetId: string, kind: BlockKi
       .where('block', '>=', next)
       .orderBy('block')
       .limit(1)
-      .executeTakeFirst();
-    if (!row) return;
-    next = row.block + 1;
-    yield { rowStart: row.row_start, rowCount: row.row_count, data: row.data };
-  }
+      .executeTakeFirst(),
+  );
+  for await (const row of blocks) yield { rowStart: row.row_start, rowCount: row.row_count, data: row.data };
 }
 
 /** A whole stored N×width matrix as one Float32Array. */
 export async function readMatrix(db: DbOrTx, factorSetId: string, kind: BlockKind, rows: number, width: number): Promise<Float32Array> {
   const out = new Float32Array(rows * width);
   for await (const block of readBlocks(db, factorSetId, kind)) {
-    const floats = new Float32Array(block.data.buffer.slice(block.data.byteOffset, block.data.byteOffset + block.data.byteLength));
-    out.set(floats, block.rowStart * width);
+    out.set(floatsOf(block.data), block.rowStart * width);
   }
   return out;
 }

@@ -1,7 +1,7 @@
 import 'server-only';
 import type { BlockKind } from '@/db/types';
 import type { DbOrTx } from '@/lib/users/users';
-import { readBlocks } from './blocks';
+import { bytesStream, floatsOf, readBlocks } from './blocks';
 
 /** Shortest decimal that reads back as the same float32, so CSV exports round-trip exactly. */
 export function float32ToText(value: number): string {
@@ -18,17 +18,11 @@ function csvField(text: string): string {
 
 /** The stored matrix as float32 little-endian bytes, one block at a time. */
 export function binaryStream(db: DbOrTx, factorSetId: string, kind: BlockKind): ReadableStream<Uint8Array> {
-  const blocks = readBlocks(db, factorSetId, kind);
-  return new ReadableStream<Uint8Array>({
-    async pull(controller) {
-      const next = await blocks.next();
-      if (next.done) controller.close();
-      else controller.enqueue(new Uint8Array(next.value.data.buffer, next.value.data.byteOffset, next.value.data.byteLength));
-    },
-    async cancel() {
-      await blocks.return(undefined);
-    },
-  });
+  return bytesStream(
+    (async function* () {
+      for await (const block of readBlocks(db, factorSetId, kind)) yield block.data;
+    })(),
+  );
 }
 
 /** The stored matrix as CSV with entity ids: `id,dim_1,…,dim_K`. */
@@ -49,7 +43,7 @@ export function csvStream(db: DbOrTx, factorSetId: string, kind: BlockKind, dims
         return;
       }
       const { rowStart, rowCount, data } = next.value;
-      const floats = new Float32Array(data.buffer.slice(data.byteOffset, data.byteOffset + data.byteLength));
+      const floats = floatsOf(data);
       const ids = await db
         .selectFrom('factor_set_entities')
         .select('entity_id')

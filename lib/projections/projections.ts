@@ -1,5 +1,5 @@
 import type { ProjectionRow, ProjectionStatus } from '@/db/types';
-import { rowsPerBlock } from '@/lib/factor-sets/blocks';
+import { blockRanges, bytesOf, keysetBlocks, rowsPerBlock } from '@/lib/factor-sets/blocks';
 import type { DbOrTx } from '@/lib/users/users';
 
 export type ProjectionMethod = ProjectionRow['method'];
@@ -80,9 +80,7 @@ export async function writeProjectionBlocks(
   rows: number,
   width: number,
 ): Promise<void> {
-  const blockRows = rowsPerBlock(width);
-  for (let block = 0, rowStart = 0; rowStart < rows; block += 1, rowStart += blockRows) {
-    const rowCount = Math.min(blockRows, rows - rowStart);
+  for (const { block, rowStart, rowCount } of blockRanges(rows, rowsPerBlock(width))) {
     await db
       .insertInto('projection_blocks')
       .values({
@@ -91,16 +89,15 @@ export async function writeProjectionBlocks(
         block,
         row_start: rowStart,
         row_count: rowCount,
-        data: Buffer.from(data.buffer, data.byteOffset + rowStart * width * 4, rowCount * width * 4),
+        data: bytesOf(data, rowStart * width, rowCount * width),
       })
       .execute();
   }
 }
 
 export async function* readProjectionBlocks(db: DbOrTx, projectionId: string, kind: 'coords' | 'fidelity'): AsyncGenerator<Buffer> {
-  let next = 0;
-  for (;;) {
-    const row = await db
+  const blocks = keysetBlocks((next) =>
+    db
       .selectFrom('projection_blocks')
       .select(['block', 'data'])
       .where('projection_id', '=', projectionId)
@@ -108,9 +105,7 @@ export async function* readProjectionBlocks(db: DbOrTx, projectionId: string, ki
       .where('block', '>=', next)
       .orderBy('block')
       .limit(1)
-      .executeTakeFirst();
-    if (!row) return;
-    next = row.block + 1;
-    yield row.data;
-  }
+      .executeTakeFirst(),
+  );
+  for await (const row of blocks) yield row.data;
 }

@@ -213,6 +213,40 @@ describe('importing factor sets through the API', () => {
       }
     }
     expect(worst).toBeLessThan(1e-4);
+
+    // The neighbour panel's partner list: shop 1's categories by affinity γ_1·δ_j, highest first.
+    const near = await api<{ partner: { items: { id: string; affinity: number }[] } }>(
+      'GET',
+      `/api/factor-sets/${answer.body.id}/neighbors?entity=1&k=3`,
+      { token: f.members.viewer.token },
+    );
+    expect(near.status).toBe(200);
+    const truthAffinity = Array.from({ length: m }, (_, j) => ({
+      id: String(j + 1),
+      affinity: (gamma[0] ?? 0) * (delta[j * k] ?? 0) + (gamma[1] ?? 0) * (delta[j * k + 1] ?? 0),
+    })).sort((a, b) => b.affinity - a.affinity);
+    expect(near.body.partner.items.map((i) => i.id)).toEqual(truthAffinity.slice(0, 3).map((t) => t.id));
+  });
+
+  it('lists an entity’s nearest neighbours in the latent space, Euclidean or cosine', async () => {
+    const csv = 'id,x,y\ne0,0,1\ne1,1,1\ne2,3,1\ne3,7,1\ne4,-10,-10\n';
+    const made = await upload<{ id: string }>(base, f.members.analyst.token, { file: { content: csv, filename: 'line.csv' } });
+    const euclid = await api<{ items: { id: string; distance: number }[] }>('GET', `/api/factor-sets/${made.body.id}/neighbors?entity=e1&k=2`, {
+      token: f.members.viewer.token,
+    });
+    expect(euclid.status).toBe(200);
+    expect(euclid.body.items.map((i) => [i.id, i.distance])).toEqual([
+      ['e0', 1],
+      ['e2', 2],
+    ]);
+    const cosine = await api<{ items: { id: string; similarity: number }[] }>('GET', `/api/factor-sets/${made.body.id}/neighbors?entity=e4&k=1&metric=cosine`, {
+      token: f.members.viewer.token,
+    });
+    // e4 points along (−1, −1); of the others, e0 = (0, 1) is the least opposed: cos = −1/√2.
+    expect(cosine.body.items[0]?.id).toBe('e0');
+    expect(cosine.body.items[0]?.similarity).toBeCloseTo(-Math.SQRT1_2, 6);
+    expect((await api('GET', `/api/factor-sets/${made.body.id}/neighbors?entity=nope`, { token: f.members.viewer.token })).status).toBe(404);
+    expect((await api('GET', `/api/factor-sets/${made.body.id}/neighbors?entity=e1`, { token: f.outsider.token })).status).toBe(404);
   });
 
   it('takes a matrix written by R’s write.csv (unnamed, quoted row-name column)', async () => {
