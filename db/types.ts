@@ -171,6 +171,30 @@ export interface ProjectionBlocksTable {
   data: Buffer;
 }
 
+export interface ClusteringsTable {
+  id: Generated<string>;
+  factor_set_id: string;
+  method: 'kmeans';
+  params: ColumnType<unknown, string, string>;
+  params_key: string;
+  seed: number;
+  input_checksum: string;
+  status: ProjectionStatus;
+  progress: Generated<number>;
+  phase: string | null;
+  error: string | null;
+  k: number | null;
+  scores: ColumnType<unknown, string | null, string | null>;
+  mean_silhouette: number | null;
+  labels: Buffer | null;
+  silhouette: Buffer | null;
+  job_id: string | null;
+  created_by: string | null;
+  created_at: Generated<Date>;
+  finished_at: NullableTimestamp;
+  duration_ms: number | null;
+}
+
 export interface Database {
   users: UsersTable;
   verification_tokens: VerificationTokensTable;
@@ -186,6 +210,7 @@ export interface Database {
   factor_set_alignments: FactorSetAlignmentsTable;
   projections: ProjectionsTable;
   projection_blocks: ProjectionBlocksTable;
+  clusterings: ClusteringsTable;
 }
 
 export type UserRow = Selectable<UsersTable>;
@@ -205,3 +230,4 @@ export type FactorSetRow = Selectable<FactorSetsTable>;
 export type NewFactorSetRow = Insertable<FactorSetsTable>;
 export type FactorSetEntityRow = Selectable<FactorSetEntitiesTable>;
 export type ProjectionRow = Selectable<ProjectionsTable>;
+export type ClusteringRow = Selectable<ClusteringsTable>;

@@ -5,7 +5,8 @@
  */
 import { availableParallelism } from 'node:os';
 import { createDb } from '../db/connection';
-import { PROJECTION_QUEUE, type ProjectionJob, startBoss } from '../lib/jobs/boss';
+import { CLUSTERING_QUEUE, type ClusteringJob, PROJECTION_QUEUE, type ProjectionJob, startBoss } from '../lib/jobs/boss';
+import { runClusteringJob } from '../lib/clusterings/clusterings';
 import { runProjectionJob } from '../lib/projections/run-job';
 
 const url = process.env.DATABASE_URL;
@@ -21,7 +22,11 @@ await boss.work<ProjectionJob>(PROJECTION_QUEUE, { batchSize: 1, pollingInterval
   if (!job) return;
   await runProjectionJob(db, job.data.projectionId, { threads });
 });
-console.log(`worker: taking projection jobs (${threads} threads for neighbour search)`);
+await boss.work<ClusteringJob>(CLUSTERING_QUEUE, { batchSize: 1, pollingIntervalSeconds: 1 }, async ([job]) => {
+  if (!job) return;
+  await runClusteringJob(db, job.data.clusteringId);
+});
+console.log(`worker: taking projection and clustering jobs (${threads} threads for neighbour search)`);
 
 let stopping = false;
 async function stop(): Promise<void> {

@@ -2,9 +2,14 @@ import PgBoss from 'pg-boss';
 
 /** The job queue lives in the same PostgreSQL, in its own schema; any number of workers on any machine may share it. */
 export const PROJECTION_QUEUE = 'projection';
+export const CLUSTERING_QUEUE = 'clustering';
 
 export interface ProjectionJob {
   projectionId: string;
+}
+
+export interface ClusteringJob {
+  clusteringId: string;
 }
 
 /**
@@ -17,6 +22,8 @@ export async function startBoss(connectionString: string, options: { supervise: 
   const boss = new PgBoss({ connectionString, schema: 'pgboss', max: 4, supervise: options.supervise, schedule: false });
   boss.on('error', (error) => console.error('job queue:', error));
   await boss.start();
-  await boss.createQueue(PROJECTION_QUEUE, { name: PROJECTION_QUEUE, policy: 'standard', ...PROJECTION_JOB_OPTIONS });
+  for (const name of [PROJECTION_QUEUE, CLUSTERING_QUEUE]) {
+    await boss.createQueue(name, { name, policy: 'standard', ...PROJECTION_JOB_OPTIONS });
+  }
   return boss;
 }

@@ -1,7 +1,7 @@
 import 'server-only';
 import type PgBoss from 'pg-boss';
 import { serverEnv } from '@/lib/env';
-import { PROJECTION_JOB_OPTIONS, PROJECTION_QUEUE, type ProjectionJob, startBoss } from './boss';
+import { CLUSTERING_QUEUE, type ClusteringJob, PROJECTION_JOB_OPTIONS, PROJECTION_QUEUE, type ProjectionJob, startBoss } from './boss';
 
 const globalForBoss = globalThis as unknown as { asterismBoss?: Promise<PgBoss> };
 
@@ -14,14 +14,22 @@ function boss(): Promise<PgBoss> {
   return globalForBoss.asterismBoss;
 }
 
-export async function enqueueProjection(job: ProjectionJob): Promise<string> {
-  const id = await (await boss()).send(PROJECTION_QUEUE, job, PROJECTION_JOB_OPTIONS);
-  if (!id) throw new Error('the job queue refused the projection job');
+async function enqueue(queue: string, job: object): Promise<string> {
+  const id = await (await boss()).send(queue, job, PROJECTION_JOB_OPTIONS);
+  if (!id) throw new Error(`the job queue refused the ${queue} job`);
   return id;
 }
 
-export async function cancelJob(jobId: string): Promise<void> {
-  await (await boss()).cancel(PROJECTION_QUEUE, jobId);
+export function enqueueProjection(job: ProjectionJob): Promise<string> {
+  return enqueue(PROJECTION_QUEUE, job);
+}
+
+export function enqueueClustering(job: ClusteringJob): Promise<string> {
+  return enqueue(CLUSTERING_QUEUE, job);
+}
+
+export async function cancelJob(jobId: string, queue: string = PROJECTION_QUEUE): Promise<void> {
+  await (await boss()).cancel(queue, jobId);
 }
 
 /** For scripts (the demo seed) that queue work and then exit. */

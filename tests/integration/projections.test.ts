@@ -139,6 +139,39 @@ describe('projections on the job queue', () => {
     expect((await until(next.body.id, f.members.analyst.token, finished)).status).toBe('done');
   }, 120_000);
 
+  it('proposes clusters by k-means in the full latent space, k chosen by silhouette', async () => {
+    const queued = await api<{ id: string; status: string }>('POST', `/api/factor-sets/${factorSetId}/clusters`, {
+      token: f.members.analyst.token,
+      body: { method: 'kmeans', params: { kMin: 2, kMax: 6 }, seed: 5 },
+    });
+    expect(queued.status, JSON.stringify(queued.body)).toBe(202);
+    const deadline = Date.now() + 60_000;
+    let body: { status: string; k: number; labels: number[]; silhouette: number[]; scores: Record<string, number>; error: string | null };
+    for (;;) {
+      body = (await api<typeof body>('GET', `/api/clusterings/${queued.body.id}`, { token: f.members.viewer.token })).body;
+      if (body.status !== 'queued' && body.status !== 'running') break;
+      if (Date.now() > deadline) throw new Error('clustering did not finish');
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    expect(body.status, body.error ?? '').toBe('done');
+    expect(body.k).toBe(3);
+    expect(Object.keys(body.scores)).toEqual(['2', '3', '4', '5', '6']);
+    expect(body.labels).toHaveLength(n);
+    const byTruth = new Map<number, Set<number>>();
+    body.labels.forEach((label, i) => byTruth.set(i % 3, (byTruth.get(i % 3) ?? new Set()).add(label)));
+    expect([...byTruth.values()].every((labels) => labels.size === 1)).toBe(true);
+    expect(body.silhouette.every((v) => v >= -1 && v <= 1)).toBe(true);
+
+    const again = await api<{ id: string; existing: boolean }>('POST', `/api/factor-sets/${factorSetId}/clusters`, {
+      token: f.members.owner.token,
+      body: { method: 'kmeans', params: { kMax: 6, kMin: 2 }, seed: 5 },
+    });
+    expect(again.body).toMatchObject({ id: queued.body.id, existing: true });
+    expect((await api('POST', `/api/factor-sets/${factorSetId}/clusters`, { token: f.members.expert.token, body: { method: 'kmeans', seed: 1 } })).status).toBe(403);
+    expect((await api('GET', `/api/clusterings/${queued.body.id}`, { token: f.outsider.token })).status).toBe(404);
+    expect((await api('POST', `/api/factor-sets/${factorSetId}/clusters`, { token: f.members.analyst.token, body: { method: 'hdbscan', seed: 1 } })).status).toBe(400);
+  }, 90_000);
+
   it('checks roles and settings: viewers read, analysts run, bad settings are named', async () => {
     const body = { method: 'pca', params: {}, seed: 99 };
     for (const role of ['expert', 'presenter', 'reviewer', 'viewer'] as const) {
