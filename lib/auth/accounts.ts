@@ -30,15 +30,15 @@ export async function requestPasswordReset(db: Kysely<Database>, email: string):
   if (!user) return;
   const env = serverEnv();
   const token = newSecret();
-  await db.transaction().execute(async (tx) => {
-    await tx
-      .insertInto('password_resets')
-      .values({
-        user_id: user.id,
-        token_hash: hashSecret(token),
-        expires_at: new Date(Date.now() + env.PASSWORD_RESET_TTL_MINUTES * 60_000),
-      })
-      .execute();
+  await db
+    .insertInto('password_resets')
+    .values({
+      user_id: user.id,
+      token_hash: hashSecret(token),
+      expires_at: new Date(Date.now() + env.PASSWORD_RESET_TTL_MINUTES * 60_000),
+    })
+    .execute();
+  try {
     await sendMail(
       passwordResetMail({
         to: user.email,
@@ -46,10 +46,16 @@ export async function requestPasswordReset(db: Kysely<Database>, email: string):
         minutes: env.PASSWORD_RESET_TTL_MINUTES,
       }),
     );
-  });
+  } catch (error) {
+    // Logged, not shown: an error only for existing accounts would tell who has one.
+    console.error('password reset mail could not be sent', error);
+  }
 }
 
-/** Spends a reset link: sets the password, ends every session, and voids the account's other links. */
+/**
+ * Spends a reset link: sets the password, ends every session, revokes every access token (a reset
+ * usually means the old credentials are not safe) and voids the account's other links.
+ */
 export async function resetPassword(db: Kysely<Database>, token: string, password: string): Promise<void> {
   const passwordHash = await hashPassword(password);
   await db.transaction().execute(async (tx) => {
@@ -63,6 +69,7 @@ export async function resetPassword(db: Kysely<Database>, token: string, passwor
       throw new ApiError(400, 'reset_link_invalid', 'This reset link is invalid, used or expired; ask for a new one');
     }
     await setPassword(tx, reset.user_id, passwordHash);
+    await tx.updateTable('access_tokens').set({ revoked_at: new Date() }).where('user_id', '=', reset.user_id).where('revoked_at', 'is', null).execute();
     await tx
       .updateTable('password_resets')
       .set({ used_at: new Date() })

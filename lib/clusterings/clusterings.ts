@@ -68,11 +68,11 @@ export async function runClusteringJob(db: Kysely<Database>, clusteringId: strin
   if (!factorSet) return;
   const started = Date.now();
   await db.updateTable('clusterings').set({ status: 'running', phase: 'loading factors', progress: 0 }).where('id', '=', clusteringId).execute();
+  const writes: Promise<unknown>[] = [];
   try {
     const params = kMeansParamsSchema.parse(row.params);
     const values = await readMatrix(db, factorSet.id, 'values', factorSet.rows, factorSet.dims);
     let lastWrite = 0;
-    const writes: Promise<unknown>[] = [];
     const chosen = chooseKMeans(values, factorSet.rows, factorSet.dims, params, mulberry32(row.seed), {
       maxIterations: params.maxIterations,
       restarts: params.restarts,
@@ -102,6 +102,7 @@ export async function runClusteringJob(db: Kysely<Database>, clusteringId: strin
       .where('status', '=', 'running')
       .execute();
   } catch (error) {
+    await Promise.allSettled(writes);
     console.error(`clustering ${clusteringId} failed`, error);
     await db
       .updateTable('clusterings')

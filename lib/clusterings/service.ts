@@ -62,7 +62,9 @@ export async function requestClustering(db: Kysely<Database>, actor: User, facto
     const jobId = await enqueueClustering({ clusteringId: row.id });
     await db.updateTable('clusterings').set({ job_id: jobId }).where('id', '=', row.id).execute();
   } catch (error) {
-    await db.deleteFrom('clusterings').where('id', '=', row.id).execute();
+    // Without a job nobody would ever run it: mark it failed (never left queued, never vanishing
+    // under a concurrent identical request that has just been handed this id).
+    await db.updateTable('clusterings').set({ status: 'failed', error: 'the job queue refused the job; request it again' }).where('id', '=', row.id).execute();
     throw error;
   }
   return { clustering: toClustering(row), existing: false };

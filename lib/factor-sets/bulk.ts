@@ -32,16 +32,21 @@ export async function withBulkTransaction<T>(db: Kysely<Database>, fn: (tx: Bulk
       await pipeline(Readable.from(chunks), client.query(copyFrom(statement)));
     },
   };
+  let broken: Error | undefined;
   try {
     await client.query('begin');
     const result = await fn(tx);
     await client.query('commit');
     return result;
   } catch (error) {
-    await client.query('rollback').catch((rollbackError: unknown) => console.error('bulk import: rollback failed', rollbackError));
+    await client.query('rollback').catch((rollbackError: unknown) => {
+      console.error('bulk import: rollback failed; the connection is discarded', rollbackError);
+      broken = rollbackError instanceof Error ? rollbackError : new Error(String(rollbackError));
+    });
     throw error;
   } finally {
-    client.release();
+    // A connection whose rollback failed is in an unknown state: destroy it rather than pool it.
+    client.release(broken);
   }
 }
 

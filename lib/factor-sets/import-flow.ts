@@ -9,7 +9,7 @@ import { type ImportFields, importFieldsSchema } from '@/lib/validation/factor-s
 import { requireWorkspaceAccess } from '@/lib/workspaces/access';
 import type { FactorSet } from './factor-sets';
 import { importLimits, parseImport, storeImport, uploadRoot } from './import-service';
-import { discardStaged, recallStaged, rememberStaged, stageMultipart } from './staging';
+import { claimStaged, discardStaged, recallStaged, rememberStaged, stageMultipart } from './staging';
 
 /*
  * The two ways in: scripts post a file and get a factor set back in one call; the import page
@@ -108,9 +108,12 @@ async function recallOwn(actor: User, importId: string) {
 }
 
 export async function confirmStaged(db: Kysely<Database>, actor: User, importId: string, name?: string): Promise<ImportResult> {
-  const staged = await recallOwn(actor, importId);
-  await requireWorkspaceAccess(db, actor.id, staged.workspaceId, 'factor-sets.import');
+  await recallOwn(actor, importId);
+  if (!(await claimStaged(uploadRoot(), importId))) throw notFound('No upload is waiting under this id; upload the file again');
+  const staged = await recallStaged(uploadRoot(), importId, true);
+  if (!staged) throw notFound('No upload is waiting under this id; upload the file again');
   try {
+    await requireWorkspaceAccess(db, actor.id, staged.workspaceId, 'factor-sets.import');
     const fields = { ...fieldsOf(staged.fields), ...(name ? { name } : {}) };
     const parsed = await parseImport(staged, fields, importLimits());
     return await storeImport(db, { workspaceId: staged.workspaceId, userId: actor.id, source: staged, fields, parsed });

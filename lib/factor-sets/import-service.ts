@@ -5,7 +5,7 @@ import type { Database } from '@/db/types';
 import { generalisedProcrustes } from '@/lib/align';
 import { serverEnv } from '@/lib/env';
 import { parseFactorFile } from '@/lib/import/parse';
-import type { ImportLimits, ParsedFactors, ParsedMatrix, UploadedFile } from '@/lib/import/types';
+import { ImportError, type ImportLimits, type ParsedFactors, type ParsedMatrix, type UploadedFile } from '@/lib/import/types';
 import type { ImportFields } from '@/lib/validation/factor-sets';
 import { rowsPerBlock, writeDrawBlocks, writeMatrixBlocks } from './blocks';
 import { type BulkTransaction, copyField, withBulkTransaction } from './bulk';
@@ -79,6 +79,7 @@ const COPY_CHUNK_ROWS = 5_000;
 
 /** Entity rows as COPY text, a few thousand lines per chunk, so memory stays flat for a million entities. */
 function* entityCopyChunks(
+  sourceName: string,
   factorSetId: string,
   ids: string[],
   labels: (string | null)[] | null,
@@ -89,6 +90,12 @@ function* entityCopyChunks(
   let lines: string[] = [];
   for (let i = 0; i < ids.length; i += 1) {
     const values = metadata?.[i];
+    // PostgreSQL text cannot hold U+0000: refuse it as bad input rather than fail in COPY.
+    if ((ids[i] ?? '').includes('\0') || (labels?.[i] ?? '').includes('\0') || values?.some((v) => typeof v === 'string' && v.includes('\0'))) {
+      throw new ImportError('invalid_text', `entity ${i + 1} (id ${JSON.stringify(ids[i] ?? '')}) contains a NUL character, which cannot be stored`, sourceName, [
+        { file: sourceName, index: `entity ${i + 1}`, message: 'NUL character in an id, label or metadata value' },
+      ]);
+    }
     const meta = values && columns.length ? JSON.stringify(Object.fromEntries(columns.map((c, j) => [c.name, values[j] ?? null]))) : null;
     lines.push(
       `${factorSetId}\t${i}\t${copyField(ids[i] ?? '')}\t${copyField(labels?.[i] ?? null)}\t${copyField(meta)}\t${copyField(spread ? (spread[i] ?? null) : null)}\n`,
@@ -146,7 +153,7 @@ async function insertPrepared(
   if (!row) throw new Error('insert into factor_sets returned no row');
   await tx.copy(
     'copy factor_set_entities (factor_set_id, idx, entity_id, label, metadata, spread) from stdin',
-    entityCopyChunks(row.id, prepared.ids, input.labels, input.metadata, input.metadataColumns, prepared.draws?.spread ?? null),
+    entityCopyChunks(input.source.name, row.id, prepared.ids, input.labels, input.metadata, input.metadataColumns, prepared.draws?.spread ?? null),
   );
   await writeMatrixBlocks(tx, row.id, 'values', prepared.values, rows, prepared.dims, blockRows);
   if (prepared.draws && drawBlockRows) {

@@ -104,6 +104,8 @@ export async function stageMultipart(request: Request, root: string, maxBytes: n
     await pipeline(Readable.fromWeb(request.body as import('node:stream/web').ReadableStream<Uint8Array>), parser);
     await Promise.all(writes);
   } catch (error) {
+    // Let the file writes settle (they fail too when the request does) before removing their folder.
+    await Promise.allSettled(writes);
     await discardStaged(dir);
     if (error instanceof ApiError || error instanceof ImportError) throw error;
     throw new ApiError(400, 'invalid_multipart', `The upload could not be read as multipart/form-data: ${(error as Error).message}`);
@@ -134,12 +136,29 @@ export async function rememberStaged(upload: StagedUpload, owner: { workspaceId:
   await fs.writeFile(path.join(upload.dir, 'meta.json'), JSON.stringify(meta));
 }
 
+/**
+ * Takes a staged upload for confirmation, once: the rename is atomic, so a second confirm of the
+ * same upload (a double click, a retry) finds nothing. Renaming also refreshes the folder's age,
+ * so the hourly sweep does not remove it mid-import.
+ */
+export async function claimStaged(root: string, id: string): Promise<boolean> {
+  if (!z.uuid().safeParse(id).success) return false;
+  const dir = path.join(root, id);
+  try {
+    await fs.rename(path.join(dir, 'meta.json'), path.join(dir, 'meta.claimed.json'));
+    return true;
+  } catch (error) {
+    if ((error as NodeJS.ErrnoException).code !== 'ENOENT') console.error(`uploads: could not claim ${id}`, error);
+    return false;
+  }
+}
+
 /** A staged upload awaiting confirmation, or undefined when it is unknown or has been swept. */
-export async function recallStaged(root: string, id: string): Promise<(StagedMeta & { dir: string }) | undefined> {
+export async function recallStaged(root: string, id: string, claimed = false): Promise<(StagedMeta & { dir: string }) | undefined> {
   if (!z.uuid().safeParse(id).success) return undefined;
   const dir = path.join(root, id);
   try {
-    const meta = stagedMetaSchema.parse(JSON.parse(await fs.readFile(path.join(dir, 'meta.json'), 'utf8')));
+    const meta = stagedMetaSchema.parse(JSON.parse(await fs.readFile(path.join(dir, claimed ? 'meta.claimed.json' : 'meta.json'), 'utf8')));
     return { ...meta, dir };
   } catch (error) {
     if ((error as NodeJS.ErrnoException).code !== 'ENOENT') console.error(`uploads: unreadable staged upload ${id}`, error);

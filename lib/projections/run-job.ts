@@ -116,10 +116,8 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     await pending;
     if (controller.signal.aborted) throw new Cancelled('cancelled');
     await db.transaction().execute(async (tx) => {
-      await tx.deleteFrom('projection_blocks').where('projection_id', '=', projectionId).execute();
-      await writeProjectionBlocks(tx, projectionId, 'coords', result.coordinates, n, 2);
-      if (perPoint) await writeProjectionBlocks(tx, projectionId, 'fidelity', perPoint, n, 1);
-      await tx
+      // Status first: if the projection was cancelled meanwhile, nothing of this run is stored.
+      const stored = await tx
         .updateTable('projections')
         .set({
           status: 'done',
@@ -133,12 +131,21 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
         })
         .where('id', '=', projectionId)
         .where('status', '=', 'running')
-        .execute();
+        .executeTakeFirst();
+      if (stored.numUpdatedRows === 0n) throw new Cancelled('cancelled before the results were stored');
+      await tx.deleteFrom('projection_blocks').where('projection_id', '=', projectionId).execute();
+      await writeProjectionBlocks(tx, projectionId, 'coords', result.coordinates, n, 2);
+      if (perPoint) await writeProjectionBlocks(tx, projectionId, 'fidelity', perPoint, n, 1);
     });
   } catch (error) {
     await pending;
     if (controller.signal.aborted || (error instanceof Error && error.name === 'AbortError')) {
-      await db.updateTable('projections').set({ status: 'cancelled', phase: 'cancelled', finished_at: new Date() }).where('id', '=', projectionId).execute();
+      await db
+        .updateTable('projections')
+        .set({ status: 'cancelled', phase: 'cancelled', finished_at: new Date() })
+        .where('id', '=', projectionId)
+        .where('status', 'in', ['running', 'cancelled'])
+        .execute();
       return;
     }
     console.error(`projection ${projectionId} failed`, error);
@@ -146,6 +153,7 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
       .updateTable('projections')
       .set({ status: 'failed', error: error instanceof Error ? error.message : String(error), finished_at: new Date(), duration_ms: Date.now() - started })
       .where('id', '=', projectionId)
+      .where('status', '=', 'running')
       .execute();
   }
 }

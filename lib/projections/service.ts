@@ -82,8 +82,9 @@ export async function requestProjection(
     const jobId = await enqueueProjection({ projectionId: row.id });
     await db.updateTable('projections').set({ job_id: jobId }).where('id', '=', row.id).execute();
   } catch (error) {
-    // Without a job nobody would ever run it: take the row back rather than leave it queued forever.
-    await db.deleteFrom('projections').where('id', '=', row.id).execute();
+    // Without a job nobody would ever run it: mark it failed (never left queued, never vanishing
+    // under a concurrent identical request that has just been handed this id).
+    await db.updateTable('projections').set({ status: 'failed', error: 'the job queue refused the job; request it again' }).where('id', '=', row.id).execute();
     throw error;
   }
   return { projection: toProjection(row), existing: false };

@@ -3,7 +3,7 @@ import { requestPasswordReset, resetPassword } from '@/lib/auth/accounts';
 import { ApiError } from '@/lib/api/errors';
 import { api } from '../support/api';
 import { testConfig } from '../support/config';
-import { createAccount, testDb, uniqueEmail } from '../support/fixtures';
+import { createAccount, testDb, tokenFor, uniqueEmail } from '../support/fixtures';
 import { linkIn, mailCount, waitForMail } from '../support/mailbox';
 
 const NEW_PASSWORD = 'a brand new passphrase';
@@ -11,6 +11,7 @@ const NEW_PASSWORD = 'a brand new passphrase';
 describe('password reset by e-mail', () => {
   it('mails a one-time link that sets a new password and ends older sessions', async () => {
     const account = await createAccount('forgetful');
+    const oldToken = await tokenFor(account);
     const before = await testDb().selectFrom('users').select('session_version').where('id', '=', account.id).executeTakeFirstOrThrow();
     await requestPasswordReset(testDb(), account.email);
     const mail = await waitForMail(account.email, /Reset your Asterism password/);
@@ -25,6 +26,8 @@ describe('password reset by e-mail', () => {
     expect(oldPassword.status).toBe(401);
     const newPassword = await api('POST', '/api/tokens', { body: { email: account.email, password: NEW_PASSWORD, name: 'x' } });
     expect(newPassword.status).toBe(201);
+    // Tokens made with the old password are revoked with it.
+    expect((await api('GET', '/api/me', { token: oldToken })).status).toBe(401);
 
     await expect(resetPassword(testDb(), token, 'yet another passphrase')).rejects.toMatchObject({ code: 'reset_link_invalid' });
   });
