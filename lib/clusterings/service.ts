@@ -7,7 +7,8 @@ import { requireFactorSetAccess } from '@/lib/factor-sets/access';
 import { floatsOf } from '@/lib/factor-sets/blocks';
 import { enqueueClustering } from '@/lib/jobs/queue';
 import { paramsKey } from '@/lib/projections/projections';
-import { isUniqueViolation, type User } from '@/lib/users/users';
+import type { User } from '@/lib/users/users';
+import { findOrQueue } from '@/lib/jobs/find-or-queue';
 import { uuidParam } from '@/lib/validation/common';
 import { type Clustering, findClusteringRow, kMeansParamsSchema, toClustering } from './clusterings';
 
@@ -34,40 +35,34 @@ export async function requestClustering(db: Kysely<Database>, actor: User, facto
       .where('seed', '=', input.seed)
       .where('status', 'in', ['queued', 'running', 'done'])
       .executeTakeFirst();
-  const found = await live();
-  if (found) return { clustering: toClustering(found), existing: true };
-  let row;
-  try {
-    row = await db
-      .insertInto('clusterings')
-      .values({
-        factor_set_id: factorSet.id,
-        method: input.method,
-        params: JSON.stringify(params),
-        params_key: key,
-        seed: input.seed,
-        input_checksum: factorSet.checksumSha256,
-        status: 'queued',
-        phase: 'queued',
-        created_by: actor.id,
-      })
-      .returningAll()
-      .executeTakeFirstOrThrow();
-  } catch (error) {
-    const raced = isUniqueViolation(error, 'clusterings_dedup_idx') ? await live() : undefined;
-    if (raced) return { clustering: toClustering(raced), existing: true };
-    throw error;
-  }
-  try {
-    const jobId = await enqueueClustering({ clusteringId: row.id });
-    await db.updateTable('clusterings').set({ job_id: jobId }).where('id', '=', row.id).execute();
-  } catch (error) {
-    // Without a job nobody would ever run it: mark it failed (never left queued, never vanishing
-    // under a concurrent identical request that has just been handed this id).
-    await db.updateTable('clusterings').set({ status: 'failed', error: 'the job queue refused the job; request it again' }).where('id', '=', row.id).execute();
-    throw error;
-  }
-  return { clustering: toClustering(row), existing: false };
+  const { row, existing } = await findOrQueue({
+    findLive: live,
+    insert: () =>
+      db
+        .insertInto('clusterings')
+        .values({
+          factor_set_id: factorSet.id,
+          method: input.method,
+          params: JSON.stringify(params),
+          params_key: key,
+          seed: input.seed,
+          input_checksum: factorSet.checksumSha256,
+          status: 'queued',
+          phase: 'queued',
+          created_by: actor.id,
+        })
+        .returningAll()
+        .executeTakeFirstOrThrow(),
+    dedupConstraint: 'clusterings_dedup_idx',
+    enqueue: (id) => enqueueClustering({ clusteringId: id }),
+    recordJob: async (id, jobId) => {
+      await db.updateTable('clusterings').set({ job_id: jobId }).where('id', '=', id).execute();
+    },
+    markRefused: async (id) => {
+      await db.updateTable('clusterings').set({ status: 'failed', error: 'the job queue refused the job; request it again' }).where('id', '=', id).execute();
+    },
+  });
+  return { clustering: toClustering(row), existing };
 }
 
 /** The clustering with its per-entity labels and silhouettes once done. */

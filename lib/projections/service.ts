@@ -7,7 +7,7 @@ import { cancelJob, enqueueProjection } from '@/lib/jobs/queue';
 import { parseProjectionParams, ProjectionParamsError } from '@/lib/projection/params';
 import type { Action } from '@/lib/permissions';
 import type { User } from '@/lib/users/users';
-import { isUniqueViolation } from '@/lib/users/users';
+import { findOrQueue } from '@/lib/jobs/find-or-queue';
 import { uuidParam } from '@/lib/validation/common';
 import type { ProjectionRequest } from '@/lib/validation/projections';
 import { findProjection, paramsKey, type Projection, toProjection } from './projections';
@@ -54,40 +54,34 @@ export async function requestProjection(
       .where('seed', '=', input.seed)
       .where('status', 'in', ['queued', 'running', 'done'])
       .executeTakeFirst();
-  const found = await live();
-  if (found) return { projection: toProjection(found), existing: true };
-  let row;
-  try {
-    row = await db
-      .insertInto('projections')
-      .values({
-        factor_set_id: factorSet.id,
-        method: input.method,
-        params: JSON.stringify(params),
-        params_key: key,
-        seed: input.seed,
-        input_checksum: factorSet.checksumSha256,
-        status: 'queued',
-        phase: 'queued',
-        created_by: actor.id,
-      })
-      .returningAll()
-      .executeTakeFirstOrThrow();
-  } catch (error) {
-    const raced = isUniqueViolation(error, 'projections_dedup_idx') ? await live() : undefined;
-    if (raced) return { projection: toProjection(raced), existing: true };
-    throw error;
-  }
-  try {
-    const jobId = await enqueueProjection({ projectionId: row.id });
-    await db.updateTable('projections').set({ job_id: jobId }).where('id', '=', row.id).execute();
-  } catch (error) {
-    // Without a job nobody would ever run it: mark it failed (never left queued, never vanishing
-    // under a concurrent identical request that has just been handed this id).
-    await db.updateTable('projections').set({ status: 'failed', error: 'the job queue refused the job; request it again' }).where('id', '=', row.id).execute();
-    throw error;
-  }
-  return { projection: toProjection(row), existing: false };
+  const { row, existing } = await findOrQueue({
+    findLive: live,
+    insert: () =>
+      db
+        .insertInto('projections')
+        .values({
+          factor_set_id: factorSet.id,
+          method: input.method,
+          params: JSON.stringify(params),
+          params_key: key,
+          seed: input.seed,
+          input_checksum: factorSet.checksumSha256,
+          status: 'queued',
+          phase: 'queued',
+          created_by: actor.id,
+        })
+        .returningAll()
+        .executeTakeFirstOrThrow(),
+    dedupConstraint: 'projections_dedup_idx',
+    enqueue: (id) => enqueueProjection({ projectionId: id }),
+    recordJob: async (id, jobId) => {
+      await db.updateTable('projections').set({ job_id: jobId }).where('id', '=', id).execute();
+    },
+    markRefused: async (id) => {
+      await db.updateTable('projections').set({ status: 'failed', error: 'the job queue refused the job; request it again' }).where('id', '=', id).execute();
+    },
+  });
+  return { projection: toProjection(row), existing };
 }
 
 export async function cancelProjection(db: Kysely<Database>, actor: User, projectionId: string): Promise<Projection> {
