@@ -6,6 +6,7 @@ import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import type { z } from 'zod';
 import { showActionErrors } from '@/components/forms/action-errors';
+import { jsonFetch } from '@/components/forms/json-fetch';
 import { Button } from '@/components/ui/button';
 import { FormMessage, SelectField, TextField } from '@/components/ui/field';
 import { ROLE_SUMMARIES, ROLES, type Role } from '@/lib/permissions';
@@ -30,17 +31,6 @@ export interface InvitationDto {
 
 const ROLE_OPTIONS = ROLES.map((r) => ({ value: r, label: r }));
 
-async function api<T>(url: string, init?: RequestInit): Promise<T> {
-  const response = await fetch(url, { ...init, headers: { 'Content-Type': 'application/json', ...init?.headers } });
-  if (response.status === 204) return undefined as T;
-  const body: unknown = await response.json();
-  if (!response.ok) {
-    const message = (body as { error?: { message?: string } }).error?.message ?? `Request failed (${response.status})`;
-    throw new Error(message);
-  }
-  return body as T;
-}
-
 const dateFormat = new Intl.DateTimeFormat('en-GB', { dateStyle: 'medium' });
 
 export function MembersPanel({
@@ -63,25 +53,25 @@ export function MembersPanel({
 
   const members = useQuery({
     queryKey: membersKey,
-    queryFn: () => api<{ items: MemberDto[] }>(`/api/workspaces/${workspaceId}/members`).then((r) => r.items),
+    queryFn: () => jsonFetch<{ items: MemberDto[] }>(`/api/workspaces/${workspaceId}/members`).then((r) => r.items),
     initialData: initialMembers,
   });
   const invitations = useQuery({
     queryKey: invitationsKey,
-    queryFn: () => api<{ items: InvitationDto[] }>(`/api/workspaces/${workspaceId}/invitations`).then((r) => r.items),
+    queryFn: () => jsonFetch<{ items: InvitationDto[] }>(`/api/workspaces/${workspaceId}/invitations`).then((r) => r.items),
     initialData: initialInvitations,
     enabled: canManage,
   });
 
   const changeRole = useMutation({
     mutationFn: ({ userId, role }: { userId: string; role: Role }) =>
-      api<MemberDto>(`/api/workspaces/${workspaceId}/members/${userId}`, { method: 'PATCH', body: JSON.stringify({ role }) }),
+      jsonFetch<MemberDto>(`/api/workspaces/${workspaceId}/members/${userId}`, { method: 'PATCH', body: JSON.stringify({ role }) }),
     onMutate: () => setProblem(null),
     onError: (error) => setProblem(error.message),
     onSettled: () => queryClient.invalidateQueries({ queryKey: membersKey }),
   });
   const remove = useMutation({
-    mutationFn: (userId: string) => api<void>(`/api/workspaces/${workspaceId}/members/${userId}`, { method: 'DELETE' }),
+    mutationFn: (userId: string) => jsonFetch<void>(`/api/workspaces/${workspaceId}/members/${userId}`, { method: 'DELETE' }),
     onMutate: () => setProblem(null),
     onError: (error) => setProblem(error.message),
     onSettled: () => queryClient.invalidateQueries({ queryKey: membersKey }),

@@ -3,6 +3,7 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useState } from 'react';
 import { useForm } from 'react-hook-form';
+import { jsonFetch } from '@/components/forms/json-fetch';
 import { Button } from '@/components/ui/button';
 import { FormMessage } from '@/components/ui/field';
 import { PARAM_DOCS, type ProjectionMethod, projectionParamsSchemas } from '@/lib/projection/params';
@@ -54,14 +55,6 @@ const CAUTION: Record<ProjectionMethod, string> = {
 function docFor(method: ProjectionMethod, key: string): { label: string; help: string } {
   const docs = PARAM_DOCS[method] as Record<string, { label: string; help: string } | undefined>;
   return docs[key] ?? { label: key, help: '' };
-}
-
-async function jsonFetch<T>(url: string, init?: RequestInit): Promise<T> {
-  const response = await fetch(url, { ...init, headers: { 'Content-Type': 'application/json', ...init?.headers } });
-  if (response.status === 204) return undefined as T;
-  const body: unknown = await response.json();
-  if (!response.ok) throw new Error((body as { error?: { message?: string } }).error?.message ?? `Request failed (${response.status})`);
-  return body as T;
 }
 
 type WireProjection = Omit<Projection, 'createdAt' | 'startedAt' | 'finishedAt'> & { createdAt: string };
