@@ -195,6 +195,55 @@ export interface ClusteringsTable {
   duration_ms: number | null;
 }
 
+export interface AnnotationsTable {
+  id: Generated<string>;
+  factor_set_id: string;
+  name: string;
+  color: string;
+  description: Generated<string>;
+  /** Sorted entity indices of the factor set, uint32 little-endian. */
+  members: Buffer;
+  member_count: number;
+  version: Generated<number>;
+  source_clustering_id: string | null;
+  created_by: string | null;
+  created_at: Generated<Date>;
+  updated_by: string | null;
+  updated_at: Generated<Date>;
+}
+
+export type AnnotationAction = 'created' | 'updated' | 'deleted';
+
+export interface AnnotationChangesTable {
+  id: Generated<string>;
+  factor_set_id: string;
+  annotation_id: string;
+  version: number;
+  action: AnnotationAction;
+  changes: ColumnType<unknown, string, string>;
+  actor_id: string | null;
+  created_at: Generated<Date>;
+}
+
+export interface ViewsTable {
+  id: Generated<string>;
+  workspace_id: string;
+  projection_id: string;
+  name: string;
+  state: ColumnType<unknown, string, string>;
+  version: Generated<number>;
+  created_by: string | null;
+  created_at: Generated<Date>;
+  updated_at: Generated<Date>;
+}
+
+export interface FactorSetPreferencesTable {
+  factor_set_id: string;
+  last_projection: ColumnType<unknown, string, string>;
+  updated_by: string | null;
+  updated_at: Generated<Date>;
+}
+
 export interface Database {
   users: UsersTable;
   verification_tokens: VerificationTokensTable;
@@ -211,6 +260,10 @@ export interface Database {
   projections: ProjectionsTable;
   projection_blocks: ProjectionBlocksTable;
   clusterings: ClusteringsTable;
+  annotations: AnnotationsTable;
+  annotation_changes: AnnotationChangesTable;
+  views: ViewsTable;
+  factor_set_preferences: FactorSetPreferencesTable;
 }
 
 export type UserRow = Selectable<UsersTable>;
@@ -231,3 +284,8 @@ export type NewFactorSetRow = Insertable<FactorSetsTable>;
 export type FactorSetEntityRow = Selectable<FactorSetEntitiesTable>;
 export type ProjectionRow = Selectable<ProjectionsTable>;
 export type ClusteringRow = Selectable<ClusteringsTable>;
+export type AnnotationRow = Selectable<AnnotationsTable>;
+export type AnnotationChangeRow = Selectable<AnnotationChangesTable>;
+export type ViewRow = Selectable<ViewsTable>;
+export type NewViewRow = Insertable<ViewsTable>;
+export type ViewUpdate = Updateable<ViewsTable>;
