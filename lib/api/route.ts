@@ -70,14 +70,14 @@ export function validated<S extends z.ZodType>(schema: S, input: unknown): z.out
 }
 
 /** Reads a JSON body and validates it with the input's zod schema (the same one its form uses). */
-export async function readJson<S extends z.ZodType>(request: Request, schema: S): Promise<z.output<S>> {
+export async function readJson<S extends z.ZodType>(request: Request, schema: S, maxBytes = MAX_JSON_BYTES): Promise<z.output<S>> {
   const type = request.headers.get('content-type') ?? '';
   if (!/^application\/json\b/i.test(type)) {
     throw new ApiError(415, 'unsupported_media_type', 'Send the body as JSON with Content-Type: application/json');
   }
   const text = await request.text();
-  if (Buffer.byteLength(text, 'utf8') > MAX_JSON_BYTES) {
-    throw new ApiError(413, 'body_too_large', `The JSON body exceeds ${MAX_JSON_BYTES} bytes`);
+  if (Buffer.byteLength(text, 'utf8') > maxBytes) {
+    throw new ApiError(413, 'body_too_large', `The JSON body exceeds ${maxBytes} bytes`);
   }
   let body: unknown;
   try {

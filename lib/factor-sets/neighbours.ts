@@ -4,6 +4,8 @@ import { readMatrix } from './blocks';
 import { type FactorSet, findFactorSet } from './factor-sets';
 
 export interface NeighbourItem {
+  /** Row index in entity order, as the coordinates endpoint lists points. */
+  index: number;
   id: string;
   label: string | null;
   distance: number;
@@ -12,7 +14,7 @@ export interface NeighbourItem {
 }
 
 export interface NeighboursAnswer {
-  entity: { id: string; label: string | null };
+  entity: { index: number; id: string; label: string | null };
   metric: 'euclidean' | 'cosine';
   items: NeighbourItem[];
   /** For a factor set with a joint partner: the partner's entities with the highest γ_i·δ_j. */
@@ -92,6 +94,7 @@ export async function latentNeighbours(
   const nearest = topK(distances, Math.min(k, n - 1), false, q);
   const names = await labelsFor(db, factorSet.id, nearest);
   const items = nearest.map((i) => ({
+    index: i,
     id: names.get(i)?.id ?? String(i),
     label: names.get(i)?.label ?? null,
     distance: distances[i] ?? Number.NaN,
@@ -116,5 +119,5 @@ export async function latentNeighbours(
       items: top.map((j) => ({ id: partnerNames.get(j)?.id ?? String(j), label: partnerNames.get(j)?.label ?? null, affinity: affinity[j] ?? Number.NaN })),
     };
   }
-  return { entity: { id: entity.entity_id, label: entity.label }, metric, items, partner };
+  return { entity: { index: entity.idx, id: entity.entity_id, label: entity.label }, metric, items, partner };
 }

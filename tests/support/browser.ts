@@ -3,8 +3,11 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { type BrowserContext, chromium } from 'playwright-core';
 
-/** Debian's Chromium, headless, with a fresh profile; nothing downloaded. */
-export async function launchBrowser(): Promise<{ newContext: () => Promise<BrowserContext>; close: () => Promise<void> }> {
+/**
+ * Debian's Chromium, headless, with a fresh profile; nothing downloaded. With `webgl`, WebGL runs in
+ * software through SwiftShader (the flags that make deck.gl draw headless on a machine without a GPU).
+ */
+export async function launchBrowser(options: { webgl?: boolean } = {}): Promise<{ newContext: () => Promise<BrowserContext>; close: () => Promise<void> }> {
   const contexts: { context: BrowserContext; dir: string }[] = [];
   return {
     async newContext() {
@@ -20,7 +23,9 @@ export async function launchBrowser(): Promise<{ newContext: () => Promise<Brows
           '--disable-sync',
           '--no-first-run',
           '--disable-quic',
+          ...(options.webgl ? ['--use-angle=swiftshader', '--enable-unsafe-swiftshader'] : []),
         ],
+        viewport: { width: 1400, height: 1000 },
       });
       contexts.push({ context, dir });
       return context;

@@ -3,6 +3,7 @@ import Link from 'next/link';
 import { notFound } from 'next/navigation';
 import { db } from '@/db';
 import { findFactorSet } from '@/lib/factor-sets/factor-sets';
+import { lastProjectionSettings } from '@/lib/factor-sets/preferences';
 import { workspaceForPage } from '@/lib/workspaces/page-access';
 import { can } from '@/lib/permissions';
 import { EntitiesTable } from './entities-table';
@@ -19,6 +20,7 @@ export default async function FactorSetPage({ params }: { params: Promise<{ work
   if (!factorSet || factorSet.workspaceId !== workspace.id) notFound();
   const partner = factorSet.jointPartnerId ? await findFactorSet(db, factorSet.jointPartnerId) : undefined;
   const alignment = factorSet.report.alignment;
+  const lastSettings = await lastProjectionSettings(db, factorSet.id);
   return (
     <div className="flex flex-col gap-6">
       <div>
@@ -112,7 +114,7 @@ export default async function FactorSetPage({ params }: { params: Promise<{ work
           </>
         )}
       </p>
-      <ProjectionsPanel factorSetId={factorSet.id} mayRun={can(role, 'projections.run')} mayDelete={can(role, 'projections.delete')} />
+      <ProjectionsPanel workspaceId={workspace.id} factorSetId={factorSet.id} mayRun={can(role, 'projections.run')} mayDelete={can(role, 'projections.delete')} lastSettings={lastSettings} />
       <EntitiesTable factorSetId={factorSet.id} metadataColumns={factorSet.metadataColumns} hasSpread={factorSet.draws > 0} />
     </div>
   );

@@ -4,11 +4,12 @@ import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { jsonFetch } from '@/components/forms/json-fetch';
-import { Button } from '@/components/ui/button';
+import Link from 'next/link';
+import { Button, buttonClasses } from '@/components/ui/button';
 import { FormMessage } from '@/components/ui/field';
 import { PARAM_DOCS, type ProjectionMethod, projectionParamsSchemas } from '@/lib/projection/params';
 import type { Projection } from '@/lib/projections/projections';
-import { projectionRequestSchema } from '@/lib/validation/projections';
+import { type ProjectionRequest, projectionRequestSchema } from '@/lib/validation/projections';
 
 type FieldKind = { kind: 'int' | 'number' } | { kind: 'bool' } | { kind: 'enum'; options: readonly string[] };
 type FieldSpec = { key: string; optional?: boolean } & FieldKind;
@@ -61,7 +62,19 @@ type WireProjection = Omit<Projection, 'createdAt' | 'startedAt' | 'finishedAt'>
 
 const score = (value: number | null | undefined) => (value === null || value === undefined ? '—' : value.toFixed(3));
 
-export function ProjectionsPanel({ factorSetId, mayRun, mayDelete }: { factorSetId: string; mayRun: boolean; mayDelete: boolean }) {
+export function ProjectionsPanel({
+  workspaceId,
+  factorSetId,
+  mayRun,
+  mayDelete,
+  lastSettings,
+}: {
+  workspaceId: string;
+  factorSetId: string;
+  mayRun: boolean;
+  mayDelete: boolean;
+  lastSettings: ProjectionRequest | null;
+}) {
   const queryClient = useQueryClient();
   const key = ['factor-sets', factorSetId, 'projections'];
   const [problem, setProblem] = useState<string | null>(null);
@@ -84,7 +97,7 @@ export function ProjectionsPanel({ factorSetId, mayRun, mayDelete }: { factorSet
         Projections
       </h3>
       {problem && <FormMessage kind="error">{problem}</FormMessage>}
-      {mayRun && <ProjectionForm factorSetId={factorSetId} onQueued={() => queryClient.invalidateQueries({ queryKey: key })} />}
+      {mayRun && <ProjectionForm factorSetId={factorSetId} lastSettings={lastSettings} onQueued={() => queryClient.invalidateQueries({ queryKey: key })} />}
       <div className="overflow-x-auto border border-rule bg-paper-raised">
         <table className="tabular w-full text-left text-sm" data-testid="projections-table">
           <thead className="border-b border-rule text-xs text-ink-muted">
@@ -133,6 +146,11 @@ export function ProjectionsPanel({ factorSetId, mayRun, mayDelete }: { factorSet
                 <td className="px-3 py-2 text-right">{score(p.quality?.stress)}</td>
                 <td className="px-3 py-2 text-right">{p.durationMs === null ? '—' : `${(p.durationMs / 1000).toFixed(1)} s`}</td>
                 <td className="px-3 py-2 text-right">
+                  {p.status === 'done' && (
+                    <Link className={buttonClasses('quiet')} href={`/workspaces/${workspaceId}/projections/${p.id}`} data-testid="open-map">
+                      Open map
+                    </Link>
+                  )}
                   {mayRun && (p.status === 'queued' || p.status === 'running') && (
                     <Button variant="quiet" onClick={() => act.mutate({ id: p.id, action: 'cancel' })}>
                       Cancel
@@ -165,10 +183,22 @@ export function ProjectionsPanel({ factorSetId, mayRun, mayDelete }: { factorSet
   );
 }
 
-function ProjectionForm({ factorSetId, onQueued }: { factorSetId: string; onQueued: () => void }) {
-  const [method, setMethod] = useState<ProjectionMethod>('umap');
+/** The form's starting values: the workspace's last settings for this factor set, else the defaults. */
+function startingValues(last: ProjectionRequest | null): { method: ProjectionMethod; seed: string; params: Record<string, string | boolean> } {
+  if (!last) return { method: 'umap', seed: '42', params: DEFAULTS.umap };
+  const params: Record<string, string | boolean> = { ...DEFAULTS[last.method] };
+  for (const [key, value] of Object.entries(last.params ?? {})) {
+    if (typeof value === 'boolean') params[key] = value;
+    else if (typeof value === 'number' || typeof value === 'string') params[key] = String(value);
+  }
+  return { method: last.method, seed: String(last.seed), params };
+}
+
+function ProjectionForm({ factorSetId, lastSettings, onQueued }: { factorSetId: string; lastSettings: ProjectionRequest | null; onQueued: () => void }) {
+  const [start] = useState(() => startingValues(lastSettings));
+  const [method, setMethod] = useState<ProjectionMethod>(start.method);
   const [message, setMessage] = useState<{ kind: 'error' | 'success'; text: string } | null>(null);
-  const form = useForm<{ seed: string; params: Record<string, string | boolean> }>({ defaultValues: { seed: '42', params: DEFAULTS.umap } });
+  const form = useForm<{ seed: string; params: Record<string, string | boolean> }>({ defaultValues: { seed: start.seed, params: start.params } });
 
   const submit = form.handleSubmit(async (values) => {
     setMessage(null);
