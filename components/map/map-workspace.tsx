@@ -7,7 +7,7 @@ import { jsonFetch } from '@/components/forms/json-fetch';
 import { Button } from '@/components/ui/button';
 import { PAPER_DARK, PAPER_LIGHT, type Rgb } from '@/lib/map/palette';
 import { combineSelection, indicesInPolygon, type SelectionMode } from '@/lib/map/selection';
-import { encodeViewParam, type MapView, URL_SELECTION_LIMIT } from '@/lib/map/view-state';
+import { type MapView, tryEncodeViewParam, URL_SELECTION_LIMIT } from '@/lib/map/view-state';
 import { AnnotationsPanel } from './annotations-panel';
 import { type Camera, fitCamera, type Size } from './camera';
 import { colourPoints, fadeOutside, filterMask, sizePoints } from './colouring';
@@ -136,7 +136,15 @@ export function MapWorkspace(props: MapWorkspaceProps) {
   useEffect(() => {
     const timer = window.setTimeout(() => {
       const url = new URL(window.location.href);
-      url.searchParams.set('view', encodeViewParam(currentView));
+      // A selection too long for an address is left out of it (a saved view keeps up to 10,000 ids).
+      const encoded = tryEncodeViewParam(currentView);
+      const fallback = encoded.ok ? encoded : tryEncodeViewParam({ ...currentView, selection: [] });
+      if (!fallback.ok) {
+        console.error('The view could not be written into the address', fallback.error);
+        return;
+      }
+      url.searchParams.delete('savedView');
+      url.searchParams.set('view', fallback.param);
       window.history.replaceState(window.history.state, '', url);
     }, 300);
     return () => window.clearTimeout(timer);

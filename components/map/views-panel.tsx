@@ -7,7 +7,7 @@ import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { jsonFetch } from '@/components/forms/json-fetch';
 import { Button } from '@/components/ui/button';
-import { encodeViewParam, type MapView } from '@/lib/map/view-state';
+import type { MapView } from '@/lib/map/view-state';
 import { viewNameField } from '@/lib/validation/views';
 import { z } from 'zod';
 
@@ -51,7 +51,7 @@ export function ViewsPanel({ workspaceId, factorSetId, maySave, currentView }: {
       <ul className="mt-2 flex flex-col gap-1 text-xs" data-testid="views-list">
         {mine.map((v) => (
           <li key={v.id} className="flex items-center justify-between gap-2">
-            <Link className="truncate text-accent hover:underline" href={`/workspaces/${workspaceId}/projections/${v.projectionId}?view=${encodeViewParam(v.state)}`}>
+            <Link className="truncate text-accent hover:underline" href={`/workspaces/${workspaceId}/projections/${v.projectionId}?savedView=${v.id}`}>
               {v.name}
             </Link>
             <span className="text-ink-muted">{v.createdBy?.name}</span>

@@ -371,3 +371,16 @@ export function decodeViewParam(param: string): { ok: true; view: MapView } | { 
     return { ok: false, error: 'The view link could not be read' };
   }
 }
+
+/**
+ * encodeViewParam without the throw, for code that runs where an exception would break the page (a
+ * render, a timer): { ok: false, error } when the view cannot travel in a URL, so the caller can
+ * fall back to linking the saved view by its id.
+ */
+export function tryEncodeViewParam(view: MapView): { ok: true; param: string } | { ok: false; error: string } {
+  try {
+    return { ok: true, param: encodeViewParam(view) };
+  } catch (error) {
+    return { ok: false, error: error instanceof Error ? error.message : String(error) };
+  }
+}

@@ -9,6 +9,7 @@ import {
   mapViewSchema,
   roundCameraNumber,
   URL_PARAM_MAX_LENGTH,
+  tryEncodeViewParam,
   URL_SELECTION_LIMIT,
   urlRoundedView,
   VIEW_SELECTION_LIMIT,
@@ -156,6 +157,10 @@ describe('encodeViewParam / decodeViewParam', () => {
     expect(decoded(encodeViewParam(fits)).selection).toHaveLength(URL_SELECTION_LIMIT);
     expect(fitsInUrl(tooMany)).toBe(false);
     expect(() => encodeViewParam(tooMany)).toThrow(/at most 200 selected entities/);
+    const attempt = tryEncodeViewParam(tooMany);
+    expect(attempt.ok).toBe(false);
+    if (!attempt.ok) expect(attempt.error).toMatch(/save it as a view instead/);
+    expect(tryEncodeViewParam(fits)).toEqual({ ok: true, param: encodeViewParam(fits) });
   });
 
   it('refuses to encode a view over the length limit or one that fails the schema', () => {

@@ -10,6 +10,7 @@ import { decodeViewParam, defaultView } from '@/lib/map/view-state';
 import { can } from '@/lib/permissions';
 import { findProjection, listProjections, type Projection } from '@/lib/projections/projections';
 import { uuidParam } from '@/lib/validation/common';
+import { findView } from '@/lib/views/views';
 import { workspaceForPage } from '@/lib/workspaces/page-access';
 
 export const metadata: Metadata = { title: 'Map' };
@@ -48,9 +49,15 @@ export default async function MapPage({
 
   const query = await searchParams;
   const raw = typeof query.view === 'string' ? query.view : undefined;
+  const savedViewId = typeof query.savedView === 'string' ? query.savedView : undefined;
   let initialView = defaultView(projection.id);
   let viewProblem: string | null = null;
-  if (raw) {
+  if (savedViewId) {
+    const saved = uuidParam.safeParse(savedViewId).success ? await findView(db, savedViewId) : undefined;
+    if (!saved || saved.workspaceId !== workspace.id) viewProblem = 'the saved view no longer exists';
+    else if (saved.projectionId !== projection.id) viewProblem = 'the saved view shows another projection';
+    else initialView = saved.state;
+  } else if (raw) {
     const decoded = decodeViewParam(raw);
     const known = new Set(projections.map((p) => p.id));
     if (!decoded.ok) viewProblem = decoded.error;
@@ -77,7 +84,7 @@ export default async function MapPage({
       <div className="flex flex-wrap items-baseline justify-between gap-2">
         <div>
           <p className="text-sm">
-            <Link className="text-accent hover:underline" href={`/workspaces/${workspace.id}/factor-sets/${factorSet.id}`}>
+            <Link className="text-accent underline" href={`/workspaces/${workspace.id}/factor-sets/${factorSet.id}`}>
               {factorSet.name}
             </Link>{' '}
             / map
