@@ -33,7 +33,9 @@ export async function loadPoints(projectionId: string): Promise<PointData> {
     if (y < minY) minY = y;
     if (y > maxY) maxY = y;
   }
-  return { n, coords: values, fidelity: fidelity?.values ?? null, bounds: { minX, maxX, minY, maxY }, bytes: coords.bytes + (fidelity?.bytes ?? 0) };
+  // Projections above the exact-scoring limit store no per-point fidelity: an empty answer.
+  const perPoint = fidelity && fidelity.values.length === n ? fidelity.values : null;
+  return { n, coords: values, fidelity: perPoint, bounds: { minX, maxX, minY, maxY }, bytes: coords.bytes + (fidelity?.bytes ?? 0) };
 }
 
 export function usePoints(projectionId: string | undefined) {
