@@ -4,7 +4,10 @@ import type { ClusteringRow, Database } from '@/db/types';
 import { mulberry32 } from '@/lib/align/random';
 import { readMatrix } from '@/lib/factor-sets/blocks';
 import { findFactorSet } from '@/lib/factor-sets/factor-sets';
+import { silhouetteExcludingNoise } from '@/lib/projection/cluster-silhouette';
+import { HDBSCAN_EXACT_MAX_POINTS, HDBSCAN_MIN_GRAPH_K, hdbscan } from '@/lib/projection/hdbscan';
 import { chooseKMeans } from '@/lib/projection/kmeans';
+import { cachedK, factorSetGraph } from '@/lib/projections/knn-cache';
 import type { DbOrTx } from '@/lib/users/users';
 
 /** k-means settings: the range of k tried (the silhouette picks one), Lloyd iterations and restarts. */
@@ -17,18 +20,35 @@ export const kMeansParamsSchema = z
   })
   .refine((p) => p.kMin <= p.kMax, { error: 'kMin must not exceed kMax', path: ['kMin'] });
 
+/**
+ * HDBSCAN settings (lib/projection/hdbscan.ts has the full meaning of each):
+ * - minClusterSize: the smallest group reported as a cluster, 2 … number of entities (checked
+ *   when requested), default 10. Larger: fewer, bigger clusters, small groups become noise;
+ *   smaller: more, possibly spurious, small clusters. Common practice: about 1% of the entities.
+ * - minSamples: neighbourhood of the density estimate, 1 … 200, default minClusterSize. Larger:
+ *   smoother density, more points declared noise; smaller: fewer noise points, finer structure.
+ */
+export const hdbscanParamsSchema = z.strictObject({
+  minClusterSize: z.number().int().min(2, 'minClusterSize must be at least 2').max(100_000, 'minClusterSize must be at most 100,000').default(10),
+  minSamples: z.number().int().min(1, 'minSamples must be at least 1').max(200, 'minSamples must be at most 200').optional(),
+});
+
+export const CLUSTERING_METHODS = ['kmeans', 'hdbscan'] as const;
+export type ClusteringMethod = (typeof CLUSTERING_METHODS)[number];
+
 export interface Clustering {
   id: string;
   factorSetId: string;
-  method: 'kmeans';
+  method: ClusteringMethod;
   params: Record<string, unknown>;
   seed: number;
   status: ClusteringRow['status'];
   progress: number;
   phase: string | null;
   error: string | null;
+  /** k-means: the k chosen; HDBSCAN: the number of clusters found. */
   k: number | null;
-  /** Mean silhouette per k tried. */
+  /** Mean silhouette per k tried (HDBSCAN: one entry, for the clusters found, noise excluded). */
   scores: Record<string, number> | null;
   meanSilhouette: number | null;
   inputChecksum: string;
@@ -60,7 +80,34 @@ export async function findClusteringRow(db: DbOrTx, id: string): Promise<Cluster
   return db.selectFrom('clusterings').selectAll().where('id', '=', id).executeTakeFirst();
 }
 
-/** Runs one clustering job in the full latent space; failures are recorded, not retried. */
+/** What a clustering run stores. */
+interface ClusteringOutcome {
+  k: number;
+  scores: Record<string, number>;
+  meanSilhouette: number | null;
+  labels: Int32Array;
+  silhouette: Float32Array;
+  phase: string;
+}
+
+function throttled(db: Kysely<Database>, clusteringId: string, writes: Promise<unknown>[]): (share: number, phase: string) => void {
+  let lastWrite = 0;
+  return (share, phase) => {
+    if (Date.now() - lastWrite < 400) return;
+    lastWrite = Date.now();
+    writes.push(db.updateTable('clusterings').set({ progress: share, phase }).where('id', '=', clusteringId).execute());
+  };
+}
+
+/**
+ * Runs one clustering job in the full latent space; failures are recorded, not retried.
+ *
+ * - kmeans: k from kMin to kMax, the highest mean silhouette wins (lib/projection/kmeans.ts).
+ * - hdbscan: lib/projection/hdbscan.ts, with core distances from the factor set's cached
+ *   Euclidean neighbour graph (lib/projections/knn-cache.ts); labels −1 are noise. Silhouettes
+ *   leave noise out (lib/projection/cluster-silhouette.ts explains why): noise entities store NaN
+ *   (null in JSON), and the phase reports the noise share beside the mean.
+ */
 export async function runClusteringJob(db: Kysely<Database>, clusteringId: string): Promise<void> {
   const row = await findClusteringRow(db, clusteringId);
   if (!row || row.status === 'done' || row.status === 'cancelled') return;
@@ -70,31 +117,61 @@ export async function runClusteringJob(db: Kysely<Database>, clusteringId: strin
   await db.updateTable('clusterings').set({ status: 'running', phase: 'loading factors', progress: 0 }).where('id', '=', clusteringId).execute();
   const writes: Promise<unknown>[] = [];
   try {
-    const params = kMeansParamsSchema.parse(row.params);
     const values = await readMatrix(db, factorSet.id, 'values', factorSet.rows, factorSet.dims);
-    let lastWrite = 0;
-    const chosen = chooseKMeans(values, factorSet.rows, factorSet.dims, params, mulberry32(row.seed), {
-      maxIterations: params.maxIterations,
-      restarts: params.restarts,
-      onProgress: (share, phase) => {
-        if (Date.now() - lastWrite < 400) return;
-        lastWrite = Date.now();
-        writes.push(db.updateTable('clusterings').set({ progress: share, phase }).where('id', '=', clusteringId).execute());
-      },
-    });
+    const onProgress = throttled(db, clusteringId, writes);
+    const n = factorSet.rows;
+    const d = factorSet.dims;
+    let outcome: ClusteringOutcome;
+    if (row.method === 'hdbscan') {
+      const params = hdbscanParamsSchema.parse(row.params);
+      const minSamples = params.minSamples ?? params.minClusterSize;
+      // The graph serves the core distances (k = minSamples − 1) and, above the exact limit, the
+      // spanning tree (k ≥ HDBSCAN_MIN_GRAPH_K).
+      const large = n > HDBSCAN_EXACT_MAX_POINTS;
+      const needK = Math.min(n - 1, Math.max(minSamples - 1, large ? HDBSCAN_MIN_GRAPH_K : 1));
+      onProgress(0, 'neighbour graph');
+      // Below the exact limit a graph beyond the cached k would be a one-off search as costly as
+      // hdbscan's own core-distance pass, so only the cached graph is used there.
+      const cached = large || needK <= cachedK(n, d) ? await factorSetGraph(db, factorSet, values, 'euclidean', needK) : undefined;
+      // An approximate graph's core distances are slightly too large where it missed a neighbour;
+      // below the exact limit the direct pass is used instead.
+      const knn = cached && (cached.exact || large) ? cached.graph : undefined;
+      const result = hdbscan(values, n, d, { minClusterSize: params.minClusterSize, minSamples }, { ...(knn ? { knn } : {}), onProgress: (share, phase) => onProgress(0.1 + 0.8 * share, phase) });
+      onProgress(0.9, 'silhouettes');
+      const silhouette = silhouetteExcludingNoise(values, n, d, result.labels, result.clusters, mulberry32(row.seed));
+      const noise = `${(100 * result.noiseShare).toFixed(1)}% noise`;
+      outcome = {
+        k: result.clusters,
+        scores: silhouette.mean !== null ? { [String(result.clusters)]: silhouette.mean } : {},
+        meanSilhouette: silhouette.mean,
+        labels: result.labels,
+        silhouette: silhouette.perPoint,
+        phase: `done (${result.clusters} clusters, ${noise}${silhouette.sampled ? '; silhouette on a sample of 5,000 clustered entities' : ''})`,
+      };
+    } else {
+      const params = kMeansParamsSchema.parse(row.params);
+      const chosen = chooseKMeans(values, n, d, params, mulberry32(row.seed), { maxIterations: params.maxIterations, restarts: params.restarts, onProgress });
+      outcome = {
+        k: chosen.k,
+        scores: chosen.scores,
+        meanSilhouette: chosen.scores[String(chosen.k)] ?? null,
+        labels: chosen.labels,
+        silhouette: chosen.silhouette,
+        phase: chosen.sampled ? 'done (silhouette on a sample of 5,000 entities)' : 'done',
+      };
+    }
     await Promise.all(writes);
-    const mean = chosen.scores[String(chosen.k)] ?? null;
     await db
       .updateTable('clusterings')
       .set({
         status: 'done',
         progress: 1,
-        phase: chosen.sampled ? 'done (silhouette on a sample of 5,000 entities)' : 'done',
-        k: chosen.k,
-        scores: JSON.stringify(chosen.scores),
-        mean_silhouette: mean,
-        labels: Buffer.from(chosen.labels.buffer, chosen.labels.byteOffset, chosen.labels.byteLength),
-        silhouette: Buffer.from(chosen.silhouette.buffer, chosen.silhouette.byteOffset, chosen.silhouette.byteLength),
+        phase: outcome.phase,
+        k: outcome.k,
+        scores: JSON.stringify(outcome.scores),
+        mean_silhouette: outcome.meanSilhouette,
+        labels: Buffer.from(outcome.labels.buffer, outcome.labels.byteOffset, outcome.labels.byteLength),
+        silhouette: Buffer.from(outcome.silhouette.buffer, outcome.silhouette.byteOffset, outcome.silhouette.byteLength),
         finished_at: new Date(),
         duration_ms: Date.now() - started,
       })

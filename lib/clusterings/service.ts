@@ -10,10 +10,10 @@ import { paramsKey } from '@/lib/projections/projections';
 import type { User } from '@/lib/users/users';
 import { findOrQueue } from '@/lib/jobs/find-or-queue';
 import { uuidParam } from '@/lib/validation/common';
-import { type Clustering, findClusteringRow, kMeansParamsSchema, toClustering } from './clusterings';
+import { type Clustering, type ClusteringMethod, findClusteringRow, hdbscanParamsSchema, kMeansParamsSchema, toClustering } from './clusterings';
 
 export interface ClusteringRequest {
-  method: 'kmeans';
+  method: ClusteringMethod;
   params?: Record<string, unknown>;
   seed: number;
 }
@@ -21,8 +21,21 @@ export interface ClusteringRequest {
 /** Queues a clustering proposal, or returns the live one for the same input, settings and seed. */
 export async function requestClustering(db: Kysely<Database>, actor: User, factorSetId: string, input: ClusteringRequest): Promise<{ clustering: Clustering; existing: boolean }> {
   const { factorSet } = await requireFactorSetAccess(db, actor.id, factorSetId, 'projections.run');
-  const params = validated(kMeansParamsSchema, input.params ?? {});
-  if (params.kMax >= factorSet.rows) throw new ApiError(400, 'invalid_params', `kMax must be below the number of entities (${factorSet.rows})`);
+  let params: Record<string, unknown>;
+  if (input.method === 'hdbscan') {
+    const hdbscanParams = validated(hdbscanParamsSchema, input.params ?? {});
+    if (hdbscanParams.minClusterSize > factorSet.rows) throw new ApiError(400, 'invalid_params', `minClusterSize must be at most the number of entities (${factorSet.rows})`);
+    if ((hdbscanParams.minSamples ?? hdbscanParams.minClusterSize) >= factorSet.rows) {
+      throw new ApiError(400, 'invalid_params', `minSamples (default: minClusterSize) must be below the number of entities (${factorSet.rows})`);
+    }
+    params = hdbscanParams;
+  } else if (input.method === 'kmeans') {
+    const kMeansParams = validated(kMeansParamsSchema, input.params ?? {});
+    if (kMeansParams.kMax >= factorSet.rows) throw new ApiError(400, 'invalid_params', `kMax must be below the number of entities (${factorSet.rows})`);
+    params = kMeansParams;
+  } else {
+    throw new ApiError(400, 'invalid_params', 'method must be "kmeans" or "hdbscan"');
+  }
   const key = paramsKey(params);
   const live = () =>
     db

@@ -27,6 +27,7 @@ import {
   type MetricCode,
   finishHeaps,
   heapOffer,
+  pairKey,
   prepareRows,
   resetHeaps,
   rowNorms,
@@ -264,4 +265,33 @@ export async function exactKnnParallel(
   const distances = new Float32Array(n * k);
   finishHeaps(heapKey, heapIndex, n, k, metricCode(metric), indices, distances);
   return { n, k, metric, indices, distances };
+}
+
+/**
+ * Exact k nearest neighbours of some query rows only (each against all n rows, itself excluded),
+ * row r of the output for queries[r]: O(|queries| · n · d). Same keys, order and distances as
+ * exactKnn gives those rows; used to measure the recall of the approximate graph on a sample.
+ */
+export function exactKnnOfRows(data: Float32Array, n: number, d: number, k: number, metric: KnnMetric, queries: ArrayLike<number>): { k: number; indices: Int32Array; distances: Float32Array } {
+  const rows = prepareKnnRows(data, n, d, metric);
+  checkK(k, n);
+  const norms = new Float64Array(n);
+  rowNorms(rows, n, d, norms);
+  const m = queries.length;
+  const heapKey = new Float64Array(m * k);
+  const heapIndex = new Int32Array(m * k);
+  resetHeaps(heapKey, heapIndex);
+  for (let r = 0; r < m; r++) {
+    const i = queries[r] as number;
+    if (!Number.isInteger(i) || i < 0 || i >= n) throw new RangeError(`neighbour search: query row ${i} is not a row of the ${n}`);
+    for (let j = 0; j < n; j++) {
+      if (j === i) continue;
+      const key = pairKey(rows, norms, d, i, j);
+      if (key <= (heapKey[r * k] as number)) heapOffer(heapKey, heapIndex, r * k, k, key, j);
+    }
+  }
+  const indices = new Int32Array(m * k);
+  const distances = new Float32Array(m * k);
+  finishHeaps(heapKey, heapIndex, m, k, metricCode(metric), indices, distances);
+  return { k, indices, distances };
 }

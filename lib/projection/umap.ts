@@ -3,8 +3,9 @@
  * Dimension Reduction", arXiv:1802.03426, 2018) by umap-js 1.4.0, the reference implementation of
  * issue 4, with two of its steps replaced by ours:
  *
- *   1. Neighbour graph: our exact kNN (knn.ts; shared with the fidelity scores and the map's
- *      neighbour queries) instead of umap-js's NN-descent, handed over with setPrecomputedKNN.
+ *   1. Neighbour graph: ours (knn-graph.ts: exact search up to EXACT_KNN_MAX_WORK, our NN-descent
+ *      beyond; shared with the fidelity scores and the map's neighbour queries) instead of
+ *      umap-js's NN-descent, handed over with setPrecomputedKNN.
  *      umap-js, like umap-learn and uwot, counts the point itself as its first neighbour (its
  *      smoothKNNDistance skips column 0 and its membership strengths give a self-edge weight 0),
  *      so nNeighbors = 15 means the point plus its 14 nearest others: we prepend the point at
@@ -39,15 +40,14 @@
 import { UMAP } from 'umap-js';
 import { mulberry32, normalGenerator } from '../align/random';
 import { type ProgressReporter, cancellable, throwIfCancelled, yieldToEventLoop } from './job-control';
-import { type KnnGraph, exactKnnParallel } from './knn';
+import type { KnnGraph } from './knn';
+import { knnGraph } from './knn-graph';
 import type { UmapParams } from './params';
 import { pcaScores } from './start-layout';
 
 /** The umap-js release this module is written against (checked against node_modules in the tests). */
 export const UMAP_JS_VERSION = '1.4.0';
 
-/** From this many points the neighbour graph is computed on worker threads (see runUmap). */
-export const PARALLEL_KNN_MIN_POINTS = 4000;
 
 /** Epochs between progress reports. */
 const REPORT_EVERY = 10;
@@ -120,10 +120,10 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
   if (graph === undefined) {
     knnShare = SHARE_KNN;
     progress.report(0, 'neighbour graph');
-    // Worker threads pay off only beyond a few thousand points (starting one costs tens of ms, and
-    // more under a TypeScript loader); below, the search takes milliseconds on this thread.
-    const threads = n >= PARALLEL_KNN_MIN_POINTS ? undefined : 1;
-    graph = await cancellable(signal, () => exactKnnParallel(data, n, d, nNeighbors - 1, metric, { signal, ...(threads ? { threads } : {}) }));
+    // Exact or approximate by size (knn-graph.ts); the approximate search draws from a stream of
+    // its own (seed mixed with a constant), so it does not shift umap-js's draws.
+    const random = mulberry32((seed ^ 0x9e3779b9) >>> 0);
+    graph = (await cancellable(signal, () => knnGraph(data, n, d, nNeighbors - 1, metric, random, signal ? { signal } : {}))).graph;
   }
   checkUmapGraph(graph, n, nNeighbors, metric);
   throwIfCancelled(signal);

@@ -3,9 +3,10 @@ import type { Database } from '@/db/types';
 import { mulberry32 } from '@/lib/align/random';
 import { readMatrix } from '@/lib/factor-sets/blocks';
 import { findFactorSet } from '@/lib/factor-sets/factor-sets';
-import { exactKnnParallel, type KnnGraph } from '@/lib/projection/knn';
-import { FIDELITY_KS, projectionFidelity } from '@/lib/projection/fidelity';
+import { FIDELITY_KS, PRESERVATION_K, projectionFidelity } from '@/lib/projection/fidelity';
+import { firstNeighbours } from '@/lib/projection/knn-graph';
 import { runProjection } from '@/lib/projection/methods';
+import { factorSetGraph } from './knn-cache';
 import { findProjection, type ProjectionQuality, writeProjectionBlocks } from './projections';
 
 /**
@@ -14,18 +15,6 @@ import { findProjection, type ProjectionQuality, writeProjectionBlocks } from '.
  */
 export const FIDELITY_MAX_ENTITIES = 20_000;
 const PROGRESS_INTERVAL_MS = 400;
-
-/** Keeps the first `k` neighbours of a larger graph, so one search serves UMAP and the scores. */
-function firstNeighbours(graph: KnnGraph, k: number): KnnGraph {
-  if (k >= graph.k) return graph;
-  const indices = new Int32Array(graph.n * k);
-  const distances = new Float32Array(graph.n * k);
-  for (let i = 0; i < graph.n; i += 1) {
-    indices.set(graph.indices.subarray(i * graph.k, i * graph.k + k), i * k);
-    distances.set(graph.distances.subarray(i * graph.k, i * graph.k + k), i * k);
-  }
-  return { ...graph, k, indices, distances };
-}
 
 class Cancelled extends Error {
   override name = 'AbortError';
@@ -77,9 +66,12 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     const metric = projection.params.metric === 'cosine' ? 'cosine' : 'euclidean';
     const nNeighbors = typeof projection.params.nNeighbors === 'number' ? projection.params.nNeighbors : 15;
     const scoreFidelity = n <= FIDELITY_MAX_ENTITIES;
-    const k = Math.min(n - 1, Math.max(nNeighbors, scoreFidelity ? Math.max(...FIDELITY_KS) : 0));
+    // One graph (lib/projections/knn-cache.ts) at the largest k needed: UMAP's nNeighbors − 1
+    // (it counts the point itself), the fidelity scores' 50.
+    const k = Math.min(n - 1, Math.max(projection.method === 'umap' ? nNeighbors - 1 : 0, scoreFidelity ? Math.max(...FIDELITY_KS, PRESERVATION_K) : 0));
     report(0.02, 'neighbour graph', true);
-    const knn = k >= 1 ? await exactKnnParallel(values, n, d, k, metric, { threads: options.threads, signal: controller.signal }) : undefined;
+    const cached = k >= 1 ? await factorSetGraph(db, factorSet, values, metric, k, { threads: options.threads, signal: controller.signal }) : undefined;
+    const knn = cached?.graph;
     if (controller.signal.aborted) throw new Cancelled('cancelled');
 
     const layoutShare = scoreFidelity ? 0.8 : 0.95;
@@ -90,7 +82,7 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
       method: projection.method,
       params: projection.params,
       seed: projection.seed,
-      knn: knn ? firstNeighbours(knn, Math.min(nNeighbors, knn.k)) : undefined,
+      knn: knn && projection.method === 'umap' ? firstNeighbours(knn, Math.min(nNeighbors - 1, knn.k)) : undefined,
       signal: controller.signal,
       onProgress: (p, phase) => report(0.05 + layoutShare * p, phase),
     });
@@ -99,7 +91,9 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     let perPoint: Float32Array | null = null;
     if (scoreFidelity) {
       report(0.05 + layoutShare, 'fidelity scores', true);
-      const scores = projectionFidelity(values, n, d, result.coordinates, mulberry32(projection.seed), { metric, latentKnn: knn });
+      // The scores rank exactly; an approximate graph (a set with many dimensions) is not used
+      // for them, and projectionFidelity searches exactly itself.
+      const scores = projectionFidelity(values, n, d, result.coordinates, mulberry32(projection.seed), { metric, ...(knn && cached?.exact ? { latentKnn: knn } : {}) });
       const byK = (values: Float64Array) =>
         Object.fromEntries(Array.from(scores.ks, (kk, i) => [String(kk), Number.isFinite(values[i] ?? Number.NaN) ? (values[i] ?? null) : null]));
       quality = {
@@ -125,7 +119,7 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
           phase: 'done',
           params: JSON.stringify(result.params),
           quality: quality ? JSON.stringify(quality) : null,
-          versions: JSON.stringify({ method: result.libraryVersion, asterism: process.env.npm_package_version ?? 'dev', node: process.version }),
+          versions: JSON.stringify({ method: result.libraryVersion, asterism: process.env.npm_package_version ?? 'dev', node: process.version, ...(cached ? { neighbours: cached.method } : {}) }),
           finished_at: new Date(),
           duration_ms: Date.now() - started,
         })

@@ -169,7 +169,31 @@ describe('projections on the job queue', () => {
     expect(again.body).toMatchObject({ id: queued.body.id, existing: true });
     expect((await api('POST', `/api/factor-sets/${factorSetId}/clusters`, { token: f.members.expert.token, body: { method: 'kmeans', seed: 1 } })).status).toBe(403);
     expect((await api('GET', `/api/clusterings/${queued.body.id}`, { token: f.outsider.token })).status).toBe(404);
-    expect((await api('POST', `/api/factor-sets/${factorSetId}/clusters`, { token: f.members.analyst.token, body: { method: 'hdbscan', seed: 1 } })).status).toBe(400);
+    expect((await api('POST', `/api/factor-sets/${factorSetId}/clusters`, { token: f.members.analyst.token, body: { method: 'dbscan', seed: 1 } })).status).toBe(400);
+  }, 90_000);
+
+  it('proposes clusters by HDBSCAN: noise labelled −1 with a null silhouette, the three blobs found', async () => {
+    const queued = await api<{ id: string }>('POST', `/api/factor-sets/${factorSetId}/clusters`, {
+      token: f.members.analyst.token,
+      body: { method: 'hdbscan', params: { minClusterSize: 10 }, seed: 1 },
+    });
+    expect(queued.status).toBe(202);
+    const deadline = Date.now() + 60_000;
+    let answer: { status: string; error: string | null; k: number | null; labels: number[] | null; silhouette: (number | null)[] | null };
+    for (;;) {
+      answer = (await api<typeof answer>('GET', `/api/clusterings/${queued.body.id}`, { token: f.members.viewer.token })).body;
+      if (answer.status === 'done' || answer.status === 'failed' || Date.now() > deadline) break;
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    expect(answer.status, answer.error ?? '').toBe('done');
+    expect(answer.labels).toHaveLength(n);
+    // The fixture's three well-separated Gaussian blobs (rows i % 3) are the clusters found.
+    const clustered = (answer.labels ?? []).map((label, i) => [label, i % 3] as const).filter(([label]) => label >= 0);
+    expect(new Set(clustered.map(([label]) => label)).size).toBe(3);
+    for (const [label, blob] of clustered) expect(clustered.find(([other]) => other === label)?.[1]).toBe(blob);
+    (answer.labels ?? []).forEach((label, i) => {
+      if (label < 0) expect(answer.silhouette?.[i]).toBeNull();
+    });
   }, 90_000);
 
   it('checks roles and settings: viewers read, analysts run, bad settings are named', async () => {

@@ -175,3 +175,25 @@ describe('pair sample and determinism', () => {
     expect(small.pairs).toBe(780);
   });
 });
+
+describe('sampledTrustworthiness', () => {
+  it('equals trustworthiness when every point is a query, and is close on a sample', async () => {
+    const { mulberry32: generator, normalGenerator: normals } = await import('@/lib/align/random');
+    const { sampledTrustworthiness, trustworthiness: exactT } = await import('@/lib/projection/fidelity');
+    const normal = normals(generator(4));
+    const n = 400;
+    const d = 6;
+    const latent = Float32Array.from({ length: n * d }, () => normal());
+    // A noisy linear map of the first two coordinates.
+    const map = new Float32Array(n * 2);
+    for (let i = 0; i < n; i++) {
+      map[i * 2] = (latent[i * d] as number) + 0.5 * normal();
+      map[i * 2 + 1] = (latent[i * d + 1] as number) + 0.5 * normal();
+    }
+    const all = Int32Array.from({ length: n }, (_, i) => i);
+    const exact = exactT(latent, n, d, map, [15])[0] as number;
+    expect(Math.abs(sampledTrustworthiness(latent, n, d, map, 15, all) - exact)).toBeLessThan(1e-12);
+    const half = Int32Array.from({ length: 200 }, (_, i) => 2 * i);
+    expect(Math.abs(sampledTrustworthiness(latent, n, d, map, 15, half) - exact)).toBeLessThan(0.02);
+  });
+});

@@ -1,0 +1,36 @@
+/** Types for knn-descent-kernel.mjs (plain JavaScript so that worker threads can load it; see knn-kernel.mjs). */
+export declare function mulberry32(seed: number): () => number;
+export declare function squaredDistance(x: Float32Array, p: number, q: number, d: number): number;
+export declare function boundedSquaredDistance(x: Float32Array, p: number, q: number, d: number, limit: number): number;
+export declare function heapPush(keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, i: number, key: number, j: number): number;
+export interface RpTree {
+  order: Int32Array;
+  /** Leaf l holds order[leafBounds[l]] … order[leafBounds[l + 1] − 1]. */
+  leafBounds: Int32Array;
+}
+export declare function splitTree(x: Float32Array, n: number, d: number, leafSize: number, random: () => number): RpTree;
+export declare function joinLeaves(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, order: Int32Array, leafBounds: Int32Array): number;
+export declare function fillRandom(x: Float32Array, n: number, d: number, keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, random: () => number): number;
+export declare function buildCandidates(
+  ids: Int32Array,
+  fresh: Uint8Array,
+  n: number,
+  K: number,
+  C: number,
+  random: () => number,
+  newIds: Int32Array,
+  newPri: Float32Array,
+  oldIds: Int32Array,
+  oldPri: Float32Array,
+  stamp: Int32Array,
+): void;
+export declare class Updates {
+  constructor(capacity?: number);
+  count: number;
+  p: Int32Array;
+  q: Int32Array;
+  key: Float32Array;
+  add(p: number, q: number, key: number): void;
+}
+export declare function localJoin(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, K: number, newIds: Int32Array, oldIds: Int32Array, C: number, i0: number, i1: number, out: Updates): number;
+export declare function applyUpdates(keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, p: Int32Array, q: Int32Array, key: Float32Array, count: number): number;

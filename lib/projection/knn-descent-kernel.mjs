@@ -1,0 +1,483 @@
+// @ts-check
+/**
+ * The arithmetic of Asterism's approximate neighbour search (NN-descent from random-projection
+ * trees; the algorithm and its settings are described in knn-approx.ts). Plain JavaScript for the
+ * reason given in knn-kernel.mjs: worker threads (knn-descent-worker.mjs) load it with Node's own
+ * loader, which runs no TypeScript under vitest. Types: knn-descent-kernel.d.mts.
+ *
+ * Layout: rows are a row-major Float32Array (n × d). Each point has a max-heap of K candidate
+ * neighbours — keys (squared distances, Float32), ids (Int32, −1 for an empty slot) and fresh flags
+ * (Uint8, 1 = not yet used in a local join) at [i·K, (i+1)·K), slot 0 the worst kept. Candidate
+ * lists for the local join have C slots per point.
+ *
+ * Distances: Σ(x_t − y_t)² of the Float32 values, summed in Float64, then stored as Float32.
+ */
+
+/**
+ * mulberry32, the generator of lib/align/random.ts, repeated here so that worker threads draw the
+ * same numbers from the same seed.
+ * @param {number} seed
+ * @returns {() => number}
+ */
+export function mulberry32(seed) {
+  let state = seed >>> 0;
+  return () => {
+    state = (state + 0x6d2b79f5) >>> 0;
+    let t = state;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/**
+ * Squared Euclidean distance of the rows starting at p and q (offsets, not indices).
+ * @param {Float32Array} x
+ * @param {number} p
+ * @param {number} q
+ * @param {number} d
+ * @returns {number}
+ */
+export function squaredDistance(x, p, q, d) {
+  let a0 = 0;
+  let a1 = 0;
+  let a2 = 0;
+  let a3 = 0;
+  let t = 0;
+  for (; t + 3 < d; t += 4) {
+    const e0 = x[p + t] - x[q + t];
+    const e1 = x[p + t + 1] - x[q + t + 1];
+    const e2 = x[p + t + 2] - x[q + t + 2];
+    const e3 = x[p + t + 3] - x[q + t + 3];
+    a0 += e0 * e0;
+    a1 += e1 * e1;
+    a2 += e2 * e2;
+    a3 += e3 * e3;
+  }
+  for (; t < d; t++) {
+    const e = x[p + t] - x[q + t];
+    a0 += e * e;
+  }
+  return a0 + a1 + (a2 + a3);
+}
+
+/**
+ * squaredDistance, abandoned once a partial sum exceeds `limit` (checked every 8 coordinates):
+ * most pairs of a late local join cannot enter either heap. Returns the full distance when it is
+ * ≤ limit, else some value > limit.
+ * @param {Float32Array} x
+ * @param {number} p
+ * @param {number} q
+ * @param {number} d
+ * @param {number} limit
+ * @returns {number}
+ */
+export function boundedSquaredDistance(x, p, q, d, limit) {
+  let a0 = 0;
+  let a1 = 0;
+  let t = 0;
+  for (; t + 7 < d; t += 8) {
+    const e0 = x[p + t] - x[q + t];
+    const e1 = x[p + t + 1] - x[q + t + 1];
+    const e2 = x[p + t + 2] - x[q + t + 2];
+    const e3 = x[p + t + 3] - x[q + t + 3];
+    const e4 = x[p + t + 4] - x[q + t + 4];
+    const e5 = x[p + t + 5] - x[q + t + 5];
+    const e6 = x[p + t + 6] - x[q + t + 6];
+    const e7 = x[p + t + 7] - x[q + t + 7];
+    a0 += e0 * e0 + e1 * e1 + e2 * e2 + e3 * e3;
+    a1 += e4 * e4 + e5 * e5 + e6 * e6 + e7 * e7;
+    if (a0 + a1 > limit) return a0 + a1;
+  }
+  for (; t < d; t++) {
+    const e = x[p + t] - x[q + t];
+    a0 += e * e;
+  }
+  return a0 + a1;
+}
+
+/**
+ * Offers j to point i's heap; kept (flagged fresh) when it beats the worst entry and is not
+ * already there. Returns 1 when the heap changed, else 0.
+ * @param {Float32Array} keys
+ * @param {Int32Array} ids
+ * @param {Uint8Array} fresh
+ * @param {number} K
+ * @param {number} i
+ * @param {number} key
+ * @param {number} j
+ * @returns {number}
+ */
+export function heapPush(keys, ids, fresh, K, i, key, j) {
+  const base = i * K;
+  if (!(key < keys[base])) return 0;
+  for (let s = 0; s < K; s++) if (ids[base + s] === j) return 0;
+  let position = 0;
+  for (;;) {
+    const left = 2 * position + 1;
+    if (left >= K) break;
+    const right = left + 1;
+    const child = right < K && keys[base + right] > keys[base + left] ? right : left;
+    if (keys[base + child] <= key) break;
+    keys[base + position] = keys[base + child];
+    ids[base + position] = ids[base + child];
+    fresh[base + position] = fresh[base + child];
+    position = child;
+  }
+  keys[base + position] = key;
+  ids[base + position] = j;
+  fresh[base + position] = 1;
+  return 1;
+}
+
+/**
+ * One random-projection tree: splits the rows recursively by the hyperplane halfway between two
+ * random points of the node (for unit rows it passes near the origin, as angular trees do) until
+ * every leaf holds at most leafSize points.
+ * @param {Float32Array} x
+ * @param {number} n
+ * @param {number} d
+ * @param {number} leafSize
+ * @param {() => number} random
+ * @returns {{ order: Int32Array, leafBounds: Int32Array }} the points in leaf order; leaf l holds
+ *   order[leafBounds[l]] … order[leafBounds[l + 1] − 1]
+ */
+export function splitTree(x, n, d, leafSize, random) {
+  const order = new Int32Array(n);
+  for (let i = 0; i < n; i++) order[i] = i;
+  const side = new Uint8Array(n);
+  const scratch = new Int32Array(n);
+  const normal = new Float64Array(d);
+  /** @type {number[]} */
+  const bounds = [];
+  // Segments [start, end) still to split, on an explicit stack (deep trees on duplicate-heavy
+  // data would overflow recursion). The right half is pushed first, so leaves come off left to
+  // right and their bounds increase.
+  const stack = [0, n];
+  while (stack.length > 0) {
+    const end = /** @type {number} */ (stack.pop());
+    const start = /** @type {number} */ (stack.pop());
+    const size = end - start;
+    if (size <= leafSize) {
+      bounds.push(start);
+      continue;
+    }
+    const a = Math.floor(random() * size);
+    let b = Math.floor(random() * (size - 1));
+    if (b >= a) b++;
+    const first = order[start + a] * d;
+    const second = order[start + b] * d;
+    let offset = 0;
+    for (let t = 0; t < d; t++) {
+      const u = x[first + t];
+      const v = x[second + t];
+      normal[t] = u - v;
+      offset -= (u - v) * (u + v) * 0.5;
+    }
+    let left = 0;
+    for (let p = start; p < end; p++) {
+      const row = order[p] * d;
+      let margin = offset;
+      let other = 0;
+      let t = 0;
+      for (; t + 1 < d; t += 2) {
+        margin += normal[t] * x[row + t];
+        other += normal[t + 1] * x[row + t + 1];
+      }
+      if (t < d) margin += normal[t] * x[row + t];
+      margin += other;
+      // Points on the plane (duplicates of both) go to a random side.
+      const goesLeft = margin > 0 || (margin === 0 && random() < 0.5);
+      side[p - start] = goesLeft ? 1 : 0;
+      if (goesLeft) left++;
+    }
+    if (left === 0 || left === size) {
+      // Every point on one side (all duplicates, or a degenerate draw): halve the node in its
+      // current order, which guarantees progress.
+      left = size >> 1;
+      for (let p = 0; p < size; p++) side[p] = p < left ? 1 : 0;
+    }
+    scratch.set(order.subarray(start, end));
+    let l = start;
+    let r = start + left;
+    for (let p = 0; p < size; p++) {
+      if (side[p] === 1) order[l++] = scratch[p];
+      else order[r++] = scratch[p];
+    }
+    stack.push(start + left, end, start, start + left);
+  }
+  bounds.push(n);
+  return { order, leafBounds: Int32Array.from(bounds) };
+}
+
+/**
+ * Compares all pairs inside each leaf of a tree and offers them to both heaps (live thresholds).
+ * @param {Float32Array} x
+ * @param {number} d
+ * @param {Float32Array} keys
+ * @param {Int32Array} ids
+ * @param {Uint8Array} fresh
+ * @param {number} K
+ * @param {Int32Array} order
+ * @param {Int32Array} leafBounds
+ * @returns {number} distances computed
+ */
+export function joinLeaves(x, d, keys, ids, fresh, K, order, leafBounds) {
+  let evaluations = 0;
+  for (let leaf = 0; leaf + 1 < leafBounds.length; leaf++) {
+    const end = leafBounds[leaf + 1];
+    for (let a = leafBounds[leaf]; a < end; a++) {
+      const p = order[a];
+      for (let b = a + 1; b < end; b++) {
+        const q = order[b];
+        const worstP = keys[p * K];
+        const worstQ = keys[q * K];
+        const key = boundedSquaredDistance(x, p * d, q * d, d, worstP > worstQ ? worstP : worstQ);
+        evaluations++;
+        if (key < worstP) heapPush(keys, ids, fresh, K, p, key, q);
+        if (key < worstQ) heapPush(keys, ids, fresh, K, q, key, p);
+      }
+    }
+  }
+  return evaluations;
+}
+
+/**
+ * Fills heaps that the trees left short with random distinct points.
+ * @param {Float32Array} x
+ * @param {number} n
+ * @param {number} d
+ * @param {Float32Array} keys
+ * @param {Int32Array} ids
+ * @param {Uint8Array} fresh
+ * @param {number} K
+ * @param {() => number} random
+ * @returns {number} distances computed
+ */
+export function fillRandom(x, n, d, keys, ids, fresh, K, random) {
+  let evaluations = 0;
+  for (let i = 0; i < n; i++) {
+    const base = i * K;
+    let filled = 0;
+    for (let s = 0; s < K; s++) if (ids[base + s] >= 0) filled++;
+    // While a slot is empty the root's key is +∞, so heapPush takes any new index. Bounded random
+    // tries, then a scan (K ≤ n − 1, so a free index exists).
+    for (let tries = 0; filled < K && tries < 4 * K; tries++) {
+      const j = Math.floor(random() * n);
+      if (j === i) continue;
+      evaluations++;
+      filled += heapPush(keys, ids, fresh, K, i, squaredDistance(x, i * d, j * d, d), j);
+    }
+    for (let j = 0; filled < K && j < n; j++) {
+      if (j === i) continue;
+      evaluations++;
+      filled += heapPush(keys, ids, fresh, K, i, squaredDistance(x, i * d, j * d, d), j);
+    }
+  }
+  return evaluations;
+}
+
+/**
+ * Offers j to the candidate list of point i: a max-heap on random priorities that keeps the C
+ * smallest, i.e. a uniform sample of the candidates (the paper's ρ-sampling), without repeats.
+ * @param {Int32Array} cIds
+ * @param {Float32Array} cPri
+ * @param {number} C
+ * @param {number} i
+ * @param {number} priority
+ * @param {number} j
+ */
+function candidatePush(cIds, cPri, C, i, priority, j) {
+  const base = i * C;
+  if (!(priority < cPri[base])) return;
+  for (let s = 0; s < C; s++) if (cIds[base + s] === j) return;
+  let position = 0;
+  for (;;) {
+    const left = 2 * position + 1;
+    if (left >= C) break;
+    const right = left + 1;
+    const child = right < C && cPri[base + right] > cPri[base + left] ? right : left;
+    if (cPri[base + child] <= priority) break;
+    cPri[base + position] = cPri[base + child];
+    cIds[base + position] = cIds[base + child];
+    position = child;
+  }
+  cPri[base + position] = priority;
+  cIds[base + position] = j;
+}
+
+/**
+ * The candidate lists of one iteration: each heap entry in both directions (the reverse
+ * neighbours), fresh ones into new*, the others into old*; then each sampled fresh entry is
+ * flagged used (it will have met every candidate of this round).
+ * @param {Int32Array} ids
+ * @param {Uint8Array} fresh
+ * @param {number} n
+ * @param {number} K
+ * @param {number} C
+ * @param {() => number} random
+ * @param {Int32Array} newIds n × C
+ * @param {Float32Array} newPri n × C
+ * @param {Int32Array} oldIds n × C
+ * @param {Float32Array} oldPri n × C
+ * @param {Int32Array} stamp n scratch
+ */
+export function buildCandidates(ids, fresh, n, K, C, random, newIds, newPri, oldIds, oldPri, stamp) {
+  newIds.fill(-1);
+  oldIds.fill(-1);
+  newPri.fill(Infinity);
+  oldPri.fill(Infinity);
+  for (let i = 0; i < n; i++) {
+    const base = i * K;
+    for (let s = 0; s < K; s++) {
+      const j = ids[base + s];
+      if (j < 0) continue;
+      const priority = random();
+      if (fresh[base + s] === 1) {
+        candidatePush(newIds, newPri, C, i, priority, j);
+        candidatePush(newIds, newPri, C, j, priority, i);
+      } else {
+        candidatePush(oldIds, oldPri, C, i, priority, j);
+        candidatePush(oldIds, oldPri, C, j, priority, i);
+      }
+    }
+  }
+  // stamp[j] = i + 1 marks j as sampled for point i: O(C + K) per point.
+  stamp.fill(0);
+  for (let i = 0; i < n; i++) {
+    const base = i * K;
+    const cBase = i * C;
+    for (let c = 0; c < C; c++) {
+      const j = newIds[cBase + c];
+      if (j >= 0) stamp[j] = i + 1;
+    }
+    for (let s = 0; s < K; s++) if (fresh[base + s] === 1 && stamp[ids[base + s]] === i + 1) fresh[base + s] = 0;
+  }
+}
+
+/**
+ * Growable list of proposed heap updates (p, q, key): the pair (p, q) at squared distance key
+ * beat the worst entry of p's or q's heap when it was computed.
+ */
+export class Updates {
+  constructor(capacity = 1 << 16) {
+    this.count = 0;
+    this.p = new Int32Array(capacity);
+    this.q = new Int32Array(capacity);
+    this.key = new Float32Array(capacity);
+  }
+
+  /**
+   * @param {number} p
+   * @param {number} q
+   * @param {number} key
+   */
+  add(p, q, key) {
+    if (this.count === this.p.length) {
+      const capacity = this.p.length * 2;
+      const grownP = new Int32Array(capacity);
+      grownP.set(this.p);
+      const grownQ = new Int32Array(capacity);
+      grownQ.set(this.q);
+      const grownKey = new Float32Array(capacity);
+      grownKey.set(this.key);
+      this.p = grownP;
+      this.q = grownQ;
+      this.key = grownKey;
+    }
+    this.p[this.count] = p;
+    this.q[this.count] = q;
+    this.key[this.count] = key;
+    this.count++;
+  }
+}
+
+/**
+ * Whether q is among the heap entries of the point whose heap starts at base. A pair already in
+ * p's heap needs no distance: it was offered to both heaps when it entered p's (every push but
+ * fillRandom's offers both ways), and since a heap's worst key only falls, q's heap would refuse p
+ * again. The scan reads p's heap row, which stays in cache across the inner loop, so it costs a
+ * fraction of a distance; on 32-D data it skips a third or more of the pairs (measured here).
+ * @param {Int32Array} ids
+ * @param {number} base
+ * @param {number} K
+ * @param {number} q
+ * @returns {boolean}
+ */
+function inHeap(ids, base, K, q) {
+  for (let s = 0; s < K; s++) if (ids[base + s] === q) return true;
+  return false;
+}
+
+/**
+ * The local join of points i0 … i1 − 1: new × new (each unordered pair once) and new × old
+ * candidates, against the heaps' worst keys as they stand (the heaps are not changed here, so
+ * threads can join disjoint point ranges at once and the result does not depend on how the range
+ * is split). Proposed updates are appended to `out` in a fixed order.
+ * @param {Float32Array} x
+ * @param {number} d
+ * @param {Float32Array} keys
+ * @param {Int32Array} ids
+ * @param {number} K
+ * @param {Int32Array} newIds
+ * @param {Int32Array} oldIds
+ * @param {number} C
+ * @param {number} i0
+ * @param {number} i1
+ * @param {Updates} out
+ * @returns {number} distances computed
+ */
+export function localJoin(x, d, keys, ids, K, newIds, oldIds, C, i0, i1, out) {
+  let evaluations = 0;
+  for (let i = i0; i < i1; i++) {
+    const cBase = i * C;
+    for (let a = 0; a < C; a++) {
+      const p = newIds[cBase + a];
+      if (p < 0) continue;
+      const pRow = p * d;
+      const pBase = p * K;
+      const worstP = keys[pBase];
+      for (let b = a + 1; b < C; b++) {
+        const q = newIds[cBase + b];
+        if (q < 0 || inHeap(ids, pBase, K, q)) continue;
+        const worstQ = keys[q * K];
+        const key = boundedSquaredDistance(x, pRow, q * d, d, worstP > worstQ ? worstP : worstQ);
+        evaluations++;
+        if (key < worstP || key < worstQ) out.add(p, q, key);
+      }
+      for (let b = 0; b < C; b++) {
+        const q = oldIds[cBase + b];
+        if (q < 0 || q === p || inHeap(ids, pBase, K, q)) continue;
+        const worstQ = keys[q * K];
+        const key = boundedSquaredDistance(x, pRow, q * d, d, worstP > worstQ ? worstP : worstQ);
+        evaluations++;
+        if (key < worstP || key < worstQ) out.add(p, q, key);
+      }
+    }
+  }
+  return evaluations;
+}
+
+/**
+ * Applies proposed updates in order to both heaps of each pair.
+ * @param {Float32Array} keys
+ * @param {Int32Array} ids
+ * @param {Uint8Array} fresh
+ * @param {number} K
+ * @param {Int32Array} p
+ * @param {Int32Array} q
+ * @param {Float32Array} key
+ * @param {number} count
+ * @returns {number} heap entries changed
+ */
+export function applyUpdates(keys, ids, fresh, K, p, q, key, count) {
+  let changed = 0;
+  for (let u = 0; u < count; u++) {
+    const a = p[u];
+    const b = q[u];
+    const value = key[u];
+    changed += heapPush(keys, ids, fresh, K, a, value, b);
+    changed += heapPush(keys, ids, fresh, K, b, value, a);
+  }
+  return changed;
+}

@@ -1,0 +1,148 @@
+/**
+ * The neighbour-graph cache: one kNN graph per factor set and metric in the knn_graphs table
+ * (migration 2026-12-01-0006), shared by the projection job (UMAP's graph, the fidelity scores)
+ * and the clustering job (HDBSCAN's core distances and, for large sets, its spanning tree).
+ *
+ * Which graph is stored (so that a result never depends on which job filled the cache first):
+ * - exact search affordable (knn-graph.ts, n²·d ≤ EXACT_KNN_MAX_WORK): the exact graph at
+ *   k = min(n − 1, EXACT_CACHE_K = 50), the largest k any job uses (trustworthiness at 50). The
+ *   exact graph at a smaller k is its prefix, so every caller slices it (firstNeighbours).
+ * - otherwise: NN-descent at k = min(n − 1, APPROX_CACHE_K = 15) with the fixed seed
+ *   KNN_CACHE_SEED. An approximate graph's prefix is not the approximate graph at the smaller k,
+ *   and the search's cost grows with k², so a job needing more than 15 neighbours of a large set
+ *   (UMAP with nNeighbors > 16, HDBSCAN with minSamples > 16) computes its own graph at its k
+ *   with the same seed, which is not stored (likewise any job needing more than 50 neighbours of
+ *   a small set). Either way the graph for a given (data, metric, k) is always the same.
+ *
+ * Invalidation: a row is used only while its input_checksum equals the factor set's
+ * checksum_sha256 (the SHA-256 of the stored values); otherwise it is recomputed and replaced.
+ * Deleting a factor set deletes its graphs (foreign key, cascade). Graphs of more than
+ * KNN_CACHE_MAX_ENTRIES (n·k) entries are computed but not stored (80 MB per graph at the limit).
+ *
+ * Concurrency: two jobs that miss at once both compute the same graph (same input, same seed, so
+ * the same bytes), and the second upsert overwrites the first harmlessly.
+ */
+import type { Kysely } from 'kysely';
+import type { Database } from '@/db/types';
+import { mulberry32 } from '@/lib/align/random';
+import type { KnnGraph, KnnMetric } from '@/lib/projection/knn';
+import { exactIsAffordable, firstNeighbours, knnGraph } from '@/lib/projection/knn-graph';
+
+/** k of a cached exact graph (trustworthiness and continuity at 50 are the largest use). */
+export const EXACT_CACHE_K = 50;
+/** k of a cached approximate graph (UMAP at its default nNeighbors = 15, HDBSCAN's graph tree). */
+export const APPROX_CACHE_K = 15;
+/** Seed of every cached approximate graph. */
+export const KNN_CACHE_SEED = 20261201;
+/** Largest graph stored, in n·k entries (8 bytes each). */
+export const KNN_CACHE_MAX_ENTRIES = 10_000_000;
+
+export interface FactorSetForGraph {
+  id: string;
+  checksumSha256: string;
+  rows: number;
+  dims: number;
+}
+
+export interface CachedGraph {
+  /** The graph with exactly the k asked for. */
+  graph: KnnGraph;
+  exact: boolean;
+  /** Whether it came from the table (false: computed in this call). */
+  hit: boolean;
+  /** What to record with a result: "exact" or "NN-descent (seed …)". */
+  method: string;
+}
+
+function bytesOfInts(values: Int32Array): Buffer {
+  return Buffer.from(values.buffer, values.byteOffset, values.byteLength);
+}
+
+function bytesOfFloats(values: Float32Array): Buffer {
+  return Buffer.from(values.buffer, values.byteOffset, values.byteLength);
+}
+
+/** Copies (aligned) out of a bytea: a Buffer from the driver may start at any byte offset. */
+function intsOf(data: Buffer): Int32Array {
+  const copy = new Uint8Array(data.byteLength);
+  copy.set(data);
+  return new Int32Array(copy.buffer);
+}
+
+function floatsOfBytes(data: Buffer): Float32Array {
+  const copy = new Uint8Array(data.byteLength);
+  copy.set(data);
+  return new Float32Array(copy.buffer);
+}
+
+/** The k the cache stores for a set of n rows of d dimensions. */
+export function cachedK(n: number, d: number): number {
+  return Math.min(n - 1, exactIsAffordable(n, d) ? EXACT_CACHE_K : APPROX_CACHE_K);
+}
+
+/**
+ * The factor set's k-nearest-neighbour graph in `metric` with exactly `k` neighbours per row,
+ * from the cache when valid, else computed (and stored when it is the canonical graph).
+ *
+ * @param values - the factor set's n × d rows, as read for the job.
+ * @param k - neighbours needed, 1 … n − 1.
+ */
+export async function factorSetGraph(
+  db: Kysely<Database>,
+  factorSet: FactorSetForGraph,
+  values: Float32Array,
+  metric: KnnMetric,
+  k: number,
+  options: { threads?: number; signal?: AbortSignal } = {},
+): Promise<CachedGraph> {
+  const n = factorSet.rows;
+  const d = factorSet.dims;
+  if (!Number.isInteger(k) || k < 1 || k > n - 1) throw new RangeError(`neighbour graph: k must be an integer from 1 to n − 1 = ${n - 1}, got ${k}`);
+  const canonicalK = cachedK(n, d);
+  const exact = exactIsAffordable(n, d);
+  const method = exact ? 'exact' : `NN-descent (seed ${KNN_CACHE_SEED})`;
+  const search = (searchK: number) =>
+    knnGraph(values, n, d, searchK, metric, mulberry32(KNN_CACHE_SEED), {
+      ...(options.threads !== undefined ? { threads: options.threads } : {}),
+      ...(options.signal ? { signal: options.signal } : {}),
+    });
+  if (k > canonicalK) {
+    // Beyond the canonical k (UMAP with many neighbours): a search of its own, not stored.
+    const chosen = await search(k);
+    return { graph: chosen.graph, exact: chosen.exact, hit: false, method };
+  }
+  const row = await db
+    .selectFrom('knn_graphs')
+    .selectAll()
+    .where('factor_set_id', '=', factorSet.id)
+    .where('metric', '=', metric)
+    .executeTakeFirst();
+  if (row && row.input_checksum === factorSet.checksumSha256 && row.n === n && row.k === canonicalK && row.exact === exact && row.seed === KNN_CACHE_SEED) {
+    const graph: KnnGraph = { n, k: row.k, metric, indices: intsOf(row.indices), distances: floatsOfBytes(row.distances) };
+    if (graph.indices.length === n * row.k && graph.distances.length === n * row.k) {
+      return { graph: firstNeighbours(graph, k), exact: row.exact, hit: true, method: row.method };
+    }
+  }
+  const started = Date.now();
+  const chosen = await search(canonicalK);
+  if (n * canonicalK <= KNN_CACHE_MAX_ENTRIES) {
+    const stored = {
+      input_checksum: factorSet.checksumSha256,
+      n,
+      k: canonicalK,
+      exact: chosen.exact,
+      seed: KNN_CACHE_SEED,
+      method,
+      indices: bytesOfInts(chosen.graph.indices),
+      distances: bytesOfFloats(chosen.graph.distances),
+      duration_ms: Date.now() - started,
+      created_at: new Date(),
+    };
+    await db
+      .insertInto('knn_graphs')
+      .values({ factor_set_id: factorSet.id, metric, ...stored })
+      .onConflict((oc) => oc.columns(['factor_set_id', 'metric']).doUpdateSet(stored))
+      .execute();
+  }
+  return { graph: firstNeighbours(chosen.graph, k), exact: chosen.exact, hit: false, method };
+}

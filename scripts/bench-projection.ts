@@ -1,0 +1,304 @@
+/**
+ * Projection benchmark (a script, not a timed test; issue 4, "Benchmark"): runs our exact and
+ * approximate kNN, PCA, UMAP and Sammon mapping on the digits data scikit-learn ships
+ * (tests/fixtures/projection/pca-digits.csv.gz, 1797 × 64) and on seeded Gaussian mixtures of
+ * 10,000 × 32 and 50,000 × 32, and prints for each step the seconds, the peak resident memory of
+ * this process while it ran, and trustworthiness at 15 of each layout (exact up to 20,000 points,
+ * else estimated from 2,000 seeded query points, see sampledTrustworthiness).
+ *
+ * When they are installed it runs the reference libraries on the same data in the same run, as
+ * child processes, and prints ours/reference ratios:
+ *   - R uwot::umap (Debian r-cran-uwot; n_neighbors 15, min_dist 0.1, init "pca", n_threads 2),
+ *   - R MASS::sammon (r-cran-mass; on the unique rows, as MASS refuses zero distances),
+ *   - Python sklearn.decomposition.PCA (python3-sklearn, /usr/bin/python3),
+ *   - Python pynndescent.NNDescent (python3-pynndescent; warmed up first, since its first call
+ *     compiles with numba for ~20 s), n_neighbors 16 (it counts the point itself), recall by us.
+ * Memory of a reference is its own peak (VmHWM from /proc/self/status), not comparable one-to-one
+ * with ours (R and Python load their runtimes and libraries).
+ *
+ *   npm run bench:projection               # everything (about 20 minutes on two busy cores)
+ *   npm run bench:projection -- --quick    # digits and 10,000 × 32, no MASS at 5,000 (~5 minutes)
+ *   npm run bench:projection -- --no-reference
+ */
+import { execFileSync, spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { Worker } from 'node:worker_threads';
+import { gunzipSync } from 'node:zlib';
+import { mulberry32, normalGenerator } from '../lib/align/random';
+import { sampledTrustworthiness, trustworthiness } from '../lib/projection/fidelity';
+import { type KnnGraph, exactKnnOfRows, exactKnnParallel } from '../lib/projection/knn';
+import { approxKnn, knnRecall } from '../lib/projection/knn-approx';
+import { runProjection } from '../lib/projection/methods';
+import { SAMMON_MAX_POINTS } from '../lib/projection/sammon';
+
+const args = new Set(process.argv.slice(2));
+const quick = args.has('--quick');
+const withReference = !args.has('--no-reference');
+const THREADS = 2;
+const K = 15;
+const root = path.resolve(import.meta.dirname, '..');
+
+interface Dataset {
+  name: string;
+  data: Float32Array;
+  n: number;
+  d: number;
+}
+
+function digits(): Dataset {
+  const text = gunzipSync(readFileSync(path.join(root, 'tests/fixtures/projection/pca-digits.csv.gz'))).toString('utf8').trim();
+  const lines = text.split('\n');
+  const d = lines[0]?.split(',').length ?? 0;
+  const data = new Float32Array(lines.length * d);
+  lines.forEach((line, i) => line.split(',').forEach((value, j) => (data[i * d + j] = Number(value))));
+  return { name: 'digits 1797×64', data, n: lines.length, d };
+}
+
+/** 20 spherical unit-variance clusters in d dimensions, centres N(0, 6²) per coordinate. */
+function mixture(n: number, d: number, seed: number): Dataset {
+  const normal = normalGenerator(mulberry32(seed));
+  const clusters = 20;
+  const centres = Float64Array.from({ length: clusters * d }, () => 6 * normal());
+  const data = new Float32Array(n * d);
+  for (let i = 0; i < n; i++) {
+    const c = i % clusters;
+    for (let t = 0; t < d; t++) data[i * d + t] = (centres[c * d + t] as number) + normal();
+  }
+  return { name: `mixture ${n.toLocaleString('en')}×${d}`, data, n, d };
+}
+
+/**
+ * Peak RSS sampled every 20 ms by a worker thread (it keeps sampling while the main thread is
+ * busy in synchronous arithmetic, which a timer on the main thread could not).
+ */
+class MemorySampler {
+  private readonly shared = new Float64Array(new SharedArrayBuffer(16));
+  private readonly worker: Worker;
+
+  constructor() {
+    this.worker = new Worker(
+      `const { workerData } = require('node:worker_threads');
+       const peak = new Float64Array(workerData);
+       setInterval(() => { const rss = process.memoryUsage().rss; if (rss > peak[0]) peak[0] = rss; }, 20);`,
+      { eval: true, workerData: this.shared.buffer },
+    );
+    this.worker.unref();
+  }
+
+  reset(): void {
+    this.shared[0] = process.memoryUsage().rss;
+  }
+
+  peakMb(): number {
+    return Math.max(this.shared[0] as number, process.memoryUsage().rss) / 2 ** 20;
+  }
+
+  async stop(): Promise<void> {
+    await this.worker.terminate();
+  }
+}
+
+interface Row {
+  dataset: string;
+  step: string;
+  seconds: number;
+  peakMb: number;
+  quality: string;
+  reference?: { seconds: number; peakMb: number; quality: string; name: string };
+}
+
+const rows: Row[] = [];
+const memory = new MemorySampler();
+
+async function timed<T>(work: () => Promise<T> | T): Promise<{ value: T; seconds: number; peakMb: number }> {
+  memory.reset();
+  const started = performance.now();
+  const value = await work();
+  return { value, seconds: (performance.now() - started) / 1000, peakMb: memory.peakMb() };
+}
+
+function trust15(set: Dataset, layout: Float32Array): number {
+  if (set.n <= 20_000) return trustworthiness(set.data, set.n, set.d, layout, [K])[0] as number;
+  const random = mulberry32(99);
+  const queries = new Set<number>();
+  while (queries.size < 2000) queries.add(Math.floor(random() * set.n));
+  return sampledTrustworthiness(set.data, set.n, set.d, layout, K, Int32Array.from(queries));
+}
+
+// ---- references, as child processes ------------------------------------------------------------
+
+function available(command: string, probe: string[]): boolean {
+  const result = spawnSync(command, probe, { stdio: 'ignore' });
+  return result.status === 0;
+}
+
+const haveR = withReference && available('Rscript', ['-e', 'library(uwot); library(MASS)']);
+const havePython = withReference && available('/usr/bin/python3', ['-c', 'import sklearn']);
+const havePynndescent = withReference && available('/usr/bin/python3', ['-c', 'import pynndescent']);
+const work = mkdtempSync(path.join(tmpdir(), 'asterism-bench-'));
+
+function writeRows(set: Dataset): string {
+  const file = path.join(work, `${set.n}x${set.d}.f32`);
+  writeFileSync(file, Buffer.from(set.data.buffer, set.data.byteOffset, set.data.byteLength));
+  return file;
+}
+
+interface ReferenceOutput {
+  seconds: number;
+  peakMb: number;
+  out?: string;
+}
+
+function runReference(command: string, scriptArgs: string[], script: string): ReferenceOutput {
+  const output = execFileSync(command, [...scriptArgs, script], { encoding: 'utf8', maxBuffer: 1 << 26, stdio: ['ignore', 'pipe', 'pipe'] });
+  const last = output.trim().split('\n').pop() ?? '{}';
+  return JSON.parse(last) as ReferenceOutput;
+}
+
+const R_PEAK = 'peak <- as.numeric(sub("VmHWM:\\\\s*([0-9]+) kB", "\\\\1", grep("VmHWM", readLines("/proc/self/status"), value = TRUE))) / 1024';
+const PY_PEAK = 'peak = [int(l.split()[1]) for l in open("/proc/self/status") if l.startswith("VmHWM")][0] / 1024';
+
+function readR(file: string, set: Dataset): string {
+  return `x <- matrix(readBin("${file}", "numeric", size = 4, n = ${set.n * set.d}), ncol = ${set.d}, byrow = TRUE)`;
+}
+
+function uwotReference(set: Dataset, file: string): { seconds: number; peakMb: number; layout: Float32Array } {
+  const out = path.join(work, `uwot-${set.n}.f64`);
+  const script = `suppressMessages(library(uwot)); ${readR(file, set)}; set.seed(42)
+    t <- proc.time()[["elapsed"]]; y <- umap(x, n_neighbors = 15, min_dist = 0.1, init = "pca", n_threads = ${THREADS}); s <- proc.time()[["elapsed"]] - t
+    writeBin(as.numeric(t(y)), "${out}", size = 8); ${R_PEAK}
+    cat(sprintf('{"seconds": %f, "peakMb": %f}\\n', s, peak))`;
+  const result = runReference('Rscript', ['-e'], script);
+  const layout = Float32Array.from(new Float64Array(readFileSync(out).buffer.slice(0)));
+  return { seconds: result.seconds, peakMb: result.peakMb, layout };
+}
+
+function sammonReference(set: Dataset, file: string): { seconds: number; peakMb: number; stress: number } {
+  const script = `suppressMessages(library(MASS)); ${readR(file, set)}; x <- unique(x)
+    t <- proc.time()[["elapsed"]]; fit <- sammon(dist(x), trace = FALSE); s <- proc.time()[["elapsed"]] - t; ${R_PEAK}
+    cat(sprintf('{"seconds": %f, "peakMb": %f, "stress": %f}\\n', s, peak, fit$stress))`;
+  const result = runReference('Rscript', ['-e'], script) as ReferenceOutput & { stress: number };
+  return { seconds: result.seconds, peakMb: result.peakMb, stress: result.stress };
+}
+
+function pcaReference(set: Dataset, file: string): { seconds: number; peakMb: number } {
+  const script = `import json, time, numpy as np
+from sklearn.decomposition import PCA
+x = np.fromfile("${file}", dtype=np.float32).reshape(${set.n}, ${set.d}).astype(np.float64)
+t = time.perf_counter(); PCA(n_components=2, svd_solver="full").fit_transform(x); s = time.perf_counter() - t
+${PY_PEAK}
+print(json.dumps({"seconds": s, "peakMb": peak}))`;
+  return runReference('/usr/bin/python3', ['-c'], script);
+}
+
+function pynndescentReference(set: Dataset, file: string): { seconds: number; peakMb: number; graph: KnnGraph } {
+  const out = path.join(work, `pynnd-${set.n}.i32`);
+  const script = `import json, time, numpy as np
+from pynndescent import NNDescent
+x = np.fromfile("${file}", dtype=np.float32).reshape(${set.n}, ${set.d})
+NNDescent(x[:2000], n_neighbors=16, random_state=1)  # warm-up: numba compiles on the first call
+t = time.perf_counter(); idx = NNDescent(x, n_neighbors=16, random_state=1, n_jobs=${THREADS}).neighbor_graph[0]; s = time.perf_counter() - t
+idx[:, 1:].astype(np.int32).tofile("${out}")
+${PY_PEAK}
+print(json.dumps({"seconds": s, "peakMb": peak}))`;
+  const result = runReference('/usr/bin/python3', ['-c'], script);
+  const indices = new Int32Array(readFileSync(out).buffer.slice(0));
+  // pynndescent drops the point itself first only when it is its own nearest (no duplicates here).
+  return { ...result, graph: { n: set.n, k: K, metric: 'euclidean', indices, distances: new Float32Array(set.n * K) } };
+}
+
+/** Recall against the exact graph, or against exact neighbours of 1,000 query points. */
+function recallOf(graph: KnnGraph, set: Dataset, exact: KnnGraph | undefined): number {
+  if (exact) return knnRecall(graph, exact);
+  const queries = Int32Array.from({ length: 1000 }, (_, r) => Math.floor((r * set.n) / 1000));
+  return knnRecall(graph, exactKnnOfRows(set.data, set.n, set.d, K, 'euclidean', queries), queries);
+}
+
+/** Recall of a graph whose distances are unknown (pynndescent): by membership only. */
+function membershipRecall(graph: KnnGraph, set: Dataset, exact: KnnGraph | undefined): number {
+  const queries = exact ? Int32Array.from({ length: set.n }, (_, i) => i) : Int32Array.from({ length: 1000 }, (_, r) => Math.floor((r * set.n) / 1000));
+  const truth = exact ?? { ...exactKnnOfRows(set.data, set.n, set.d, K, 'euclidean', queries), n: queries.length };
+  let found = 0;
+  queries.forEach((i, r) => {
+    const row = exact ? i : r;
+    const want = new Set(truth.indices.subarray(row * K, row * K + K));
+    for (let s = 0; s < K; s++) if (want.has(graph.indices[i * K + s] as number)) found++;
+  });
+  return found / (queries.length * K);
+}
+
+// ---- the run ------------------------------------------------------------------------------------
+
+async function bench(set: Dataset): Promise<void> {
+  console.log(`\n${set.name}`);
+  const file = withReference ? writeRows(set) : '';
+  const push = (row: Row) => {
+    rows.push(row);
+    const reference = row.reference ? `   ${row.reference.name}: ${row.reference.seconds.toFixed(2)} s, ${row.reference.peakMb.toFixed(0)} MB, ${row.reference.quality}, ratio ${(row.seconds / row.reference.seconds).toFixed(2)}` : '';
+    console.log(`  ${row.step.padEnd(22)} ${row.seconds.toFixed(2).padStart(8)} s ${row.peakMb.toFixed(0).padStart(6)} MB  ${row.quality}${reference}`);
+  };
+
+  // Exact kNN (skipped at 50,000 with --quick, where it is the slow part).
+  let exact: KnnGraph | undefined;
+  if (!(quick && set.n > 20_000)) {
+    const run = await timed(() => exactKnnParallel(set.data, set.n, set.d, K, 'euclidean', { threads: THREADS }));
+    exact = run.value;
+    push({ dataset: set.name, step: `exact kNN k=${K}`, seconds: run.seconds, peakMb: run.peakMb, quality: 'recall 1' });
+  }
+  const approx = await timed(() => approxKnn(set.data, set.n, set.d, K, 'euclidean', mulberry32(1), { threads: THREADS }));
+  const approxRow: Row = { dataset: set.name, step: `NN-descent kNN k=${K}`, seconds: approx.seconds, peakMb: approx.peakMb, quality: `recall ${recallOf(approx.value, set, exact).toFixed(4)}` };
+  if (havePynndescent) {
+    const reference = pynndescentReference(set, file);
+    approxRow.reference = { name: 'pynndescent', seconds: reference.seconds, peakMb: reference.peakMb, quality: `recall ${membershipRecall(reference.graph, set, exact).toFixed(4)}` };
+  }
+  push(approxRow);
+
+  const pca = await timed(() => runProjection({ data: set.data, n: set.n, d: set.d, method: 'pca', params: {}, seed: 1 }));
+  const pcaRow: Row = { dataset: set.name, step: 'PCA', seconds: pca.seconds, peakMb: pca.peakMb, quality: `T(15) ${trust15(set, pca.value.coordinates).toFixed(4)}` };
+  if (havePython) pcaRow.reference = { name: 'sklearn PCA', quality: '', ...pcaReference(set, file) };
+  push(pcaRow);
+
+  // UMAP with the graph the job would use (exact up to 20,000 × 32, NN-descent beyond), timed
+  // without the graph (the cache supplies it), like uwot's time includes its own search.
+  const graph = set.n <= 20_000 && exact ? exact : approx.value;
+  const umap = await timed(() => runProjection({ data: set.data, n: set.n, d: set.d, method: 'umap', params: {}, seed: 42, knn: graph }));
+  const umapRow: Row = { dataset: set.name, step: 'UMAP (graph given)', seconds: umap.seconds, peakMb: umap.peakMb, quality: `T(15) ${trust15(set, umap.value.coordinates).toFixed(4)}` };
+  if (haveR) {
+    const reference = uwotReference(set, file);
+    umapRow.reference = { name: 'uwot (incl. its kNN)', seconds: reference.seconds, peakMb: reference.peakMb, quality: `T(15) ${trust15(set, reference.layout).toFixed(4)}` };
+  }
+  push(umapRow);
+
+  // Sammon: up to SAMMON_MAX_POINTS rows (its O(n²) distance matrix).
+  const sammonSet: Dataset = set.n <= SAMMON_MAX_POINTS ? set : { name: `${set.name} (first 5,000)`, data: set.data.slice(0, 5000 * set.d), n: 5000, d: set.d };
+  if (set.n <= 10_000) {
+    const sammon = await timed(() => runProjection({ data: sammonSet.data, n: sammonSet.n, d: sammonSet.d, method: 'sammon', params: {}, seed: 1 }));
+    const sammonRow: Row = {
+      dataset: sammonSet.name,
+      step: `Sammon (${sammonSet.n} rows)`,
+      seconds: sammon.seconds,
+      peakMb: sammon.peakMb,
+      quality: `stress ${(sammon.value.stress ?? Number.NaN).toFixed(4)}, T(15) ${trust15(sammonSet, sammon.value.coordinates).toFixed(4)}`,
+    };
+    // MASS::sammon on 5,000 rows takes minutes; only in the full run.
+    if (haveR && (!quick || sammonSet.n <= 2000)) {
+      const reference = sammonReference(sammonSet, sammonSet === set ? file : writeRows(sammonSet));
+      sammonRow.reference = { name: 'MASS::sammon', seconds: reference.seconds, peakMb: reference.peakMb, quality: `stress ${reference.stress.toFixed(4)}` };
+    }
+    push(sammonRow);
+  }
+}
+
+try {
+  console.log(`Asterism projection benchmark (${quick ? 'quick' : 'full'}; ${THREADS} threads; references: ${[haveR ? 'R uwot, MASS' : '', havePython ? 'sklearn' : '', havePynndescent ? 'pynndescent' : ''].filter(Boolean).join(', ') || 'none'})`);
+  await bench(digits());
+  await bench(mixture(10_000, 32, 20261201));
+  if (!quick) await bench(mixture(50_000, 32, 20261202));
+  console.log('\nAs JSON:');
+  console.log(JSON.stringify(rows));
+} finally {
+  await memory.stop();
+  rmSync(work, { recursive: true, force: true });
+}
