@@ -7,6 +7,7 @@ import type { Kysely } from 'kysely';
 import { hashPassword } from '../lib/auth/secrets';
 import { createDb } from './connection';
 import { queueDemoProjections, seedDemoFactorSets } from './demo/seed-factor-sets';
+import { submitDemoFit } from './demo/seed-fit';
 import type { Database, RoleColumn } from './types';
 
 export const DEMO_WORKSPACE_NAME = 'Larkspur Books';
@@ -86,6 +87,10 @@ async function main(): Promise<void> {
     if (process.env.ASTERISM_DEMO_PROJECTIONS !== '0') {
       const queued = await queueDemoProjections(db, workspaceId, ownerId);
       if (queued) console.log(`seed: queued ${queued} demo projections (PCA and UMAP of each factor set) for the workers`);
+    }
+    // The demo fit is a job too (about a minute): off wherever the demo's jobs are (the tests).
+    if ((process.env.ASTERISM_DEMO_FIT ?? process.env.ASTERISM_DEMO_PROJECTIONS) !== '0') {
+      if (await submitDemoFit(db, workspaceId, ownerId)) console.log('seed: queued the demo fit (Larkspur monthly sales, Poisson with footfall exposure) for the workers');
     }
     console.log(`seed: demo workspace "${DEMO_WORKSPACE_NAME}" with ${DEMO_ACCOUNTS.length} accounts is ready`);
   } finally {

@@ -174,7 +174,7 @@ export interface ProjectionBlocksTable {
 export interface ClusteringsTable {
   id: Generated<string>;
   factor_set_id: string;
-  method: 'kmeans';
+  method: 'kmeans' | 'hdbscan';
   params: ColumnType<unknown, string, string>;
   params_key: string;
   seed: number;
@@ -289,3 +289,66 @@ export type AnnotationChangeRow = Selectable<AnnotationChangesTable>;
 export type ViewRow = Selectable<ViewsTable>;
 export type NewViewRow = Insertable<ViewsTable>;
 export type ViewUpdate = Updateable<ViewsTable>;
+
+// Neighbour-graph cache (migration 2026-12-01-0006-knn-cache; lib/projections/knn-cache.ts).
+export interface KnnGraphsTable {
+  factor_set_id: string;
+  metric: 'euclidean' | 'cosine';
+  input_checksum: string;
+  n: number;
+  k: number;
+  exact: boolean;
+  seed: number;
+  method: string;
+  indices: Buffer;
+  distances: Buffer;
+  duration_ms: number;
+  created_at: Generated<Date>;
+}
+
+// Declaration merging adds the table to Database above without editing it.
+export interface Database {
+  knn_graphs: KnnGraphsTable;
+}
+
+export type KnnGraphRow = Selectable<KnnGraphsTable>;
+
+// Factorization-machine fits (migration 2026-12-01-0007-fits; lib/fits).
+export interface FitsTable {
+  id: Generated<string>;
+  workspace_id: string;
+  name: string;
+  source_name: string;
+  /** bigint: pg returns it as a string. */
+  source_bytes: ColumnType<string, number | string, number | string>;
+  checksum_sha256: string;
+  settings: ColumnType<unknown, string, string>;
+  status: ProjectionStatus;
+  progress: Generated<number>;
+  phase: string | null;
+  error: string | null;
+  observations: number;
+  row_entities: number;
+  column_entities: number;
+  warnings: ColumnType<unknown, string | undefined, string>;
+  metrics: ColumnType<unknown, string | null, string | null>;
+  convergence: ColumnType<unknown, string | null, string | null>;
+  summary: ColumnType<unknown, string | null, string | null>;
+  model: Buffer | null;
+  row_factor_set_id: string | null;
+  column_factor_set_id: string | null;
+  job_id: string | null;
+  attempts: Generated<number>;
+  created_by: string | null;
+  created_at: Generated<Date>;
+  started_at: NullableTimestamp;
+  finished_at: NullableTimestamp;
+  duration_ms: number | null;
+}
+
+export interface Database {
+  fits: FitsTable;
+}
+
+export type FitRow = Selectable<FitsTable>;
+export type NewFitRow = Insertable<FitsTable>;

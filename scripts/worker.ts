@@ -8,6 +8,8 @@ import { createDb } from '../db/connection';
 import { CLUSTERING_QUEUE, type ClusteringJob, PROJECTION_QUEUE, type ProjectionJob, startBoss } from '../lib/jobs/boss';
 import { runClusteringJob } from '../lib/clusterings/clusterings';
 import { runProjectionJob } from '../lib/projections/run-job';
+import { FIT_QUEUE, type FitJob, PROJECTION_JOB_OPTIONS } from '../lib/jobs/boss';
+import { runFitJob } from '../lib/fits/run-job';
 
 const url = process.env.DATABASE_URL;
 if (!url) {
@@ -25,6 +27,10 @@ await boss.work<ProjectionJob>(PROJECTION_QUEUE, { batchSize: 1, pollingInterval
 await boss.work<ClusteringJob>(CLUSTERING_QUEUE, { batchSize: 1, pollingIntervalSeconds: 1 }, async ([job]) => {
   if (!job) return;
   await runClusteringJob(db, job.data.clusteringId);
+});
+await boss.work<FitJob>(FIT_QUEUE, { batchSize: 1, pollingIntervalSeconds: 1 }, async ([job]) => {
+  if (!job) return;
+  await runFitJob(db, job.data.fitId, { threads, enqueueProjection: (projectionId) => boss.send(PROJECTION_QUEUE, { projectionId }, PROJECTION_JOB_OPTIONS) });
 });
 console.log(`worker: taking projection and clustering jobs (${threads} threads for neighbour search)`);
 

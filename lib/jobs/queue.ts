@@ -1,7 +1,7 @@
 import 'server-only';
 import type PgBoss from 'pg-boss';
 import { serverEnv } from '@/lib/env';
-import { CLUSTERING_QUEUE, type ClusteringJob, PROJECTION_JOB_OPTIONS, PROJECTION_QUEUE, type ProjectionJob, startBoss } from './boss';
+import { CLUSTERING_QUEUE, type ClusteringJob, FIT_JOB_OPTIONS, FIT_QUEUE, type FitJob, PROJECTION_JOB_OPTIONS, PROJECTION_QUEUE, type ProjectionJob, startBoss } from './boss';
 
 const globalForBoss = globalThis as unknown as { asterismBoss?: Promise<PgBoss> };
 
@@ -14,8 +14,8 @@ function boss(): Promise<PgBoss> {
   return globalForBoss.asterismBoss;
 }
 
-async function enqueue(queue: string, job: object): Promise<string> {
-  const id = await (await boss()).send(queue, job, PROJECTION_JOB_OPTIONS);
+async function enqueue(queue: string, job: object, options: PgBoss.SendOptions = PROJECTION_JOB_OPTIONS): Promise<string> {
+  const id = await (await boss()).send(queue, job, options);
   if (!id) throw new Error(`the job queue refused the ${queue} job`);
   return id;
 }
@@ -26,6 +26,10 @@ export function enqueueProjection(job: ProjectionJob): Promise<string> {
 
 export function enqueueClustering(job: ClusteringJob): Promise<string> {
   return enqueue(CLUSTERING_QUEUE, job);
+}
+
+export function enqueueFit(job: FitJob): Promise<string> {
+  return enqueue(FIT_QUEUE, job, FIT_JOB_OPTIONS);
 }
 
 export async function cancelJob(jobId: string, queue: string = PROJECTION_QUEUE): Promise<void> {

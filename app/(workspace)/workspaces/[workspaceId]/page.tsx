@@ -13,6 +13,7 @@ export default async function WorkspaceHomePage({ params }: { params: Promise<{ 
   const mayImport = can(role, 'factor-sets.import');
   const factorSets = await listFactorSets(db, workspace.id);
   const importLink = `/workspaces/${workspace.id}/import`;
+  const fitLink = can(role, 'factor-sets.fit') ? `/workspaces/${workspace.id}/fits/new` : null;
   return (
     <div className="grid gap-6 lg:grid-cols-[1fr_320px]">
       {factorSets.length === 0 ? (
@@ -25,9 +26,16 @@ export default async function WorkspaceHomePage({ params }: { params: Promise<{ 
             shop, a respondent, a product) and one column per latent dimension, optionally with posterior draws.
           </p>
           {mayImport ? (
-            <Link href={importLink} className={buttonClasses('primary', 'mt-5')}>
-              Import a factor set
-            </Link>
+            <div className="mt-5 flex flex-wrap gap-3">
+              <Link href={importLink} className={buttonClasses('primary')}>
+                Import a factor set
+              </Link>
+              {fitLink && (
+                <Link href={fitLink} className={buttonClasses('secondary')}>
+                  Fit a factorization machine
+                </Link>
+              )}
+            </div>
           ) : (
             <p className="mt-5 text-sm text-ink-muted">An analyst or owner of this workspace imports factor sets; they will appear here.</p>
           )}
@@ -38,11 +46,18 @@ export default async function WorkspaceHomePage({ params }: { params: Promise<{ 
             <h2 id="factor-sets-heading" className="text-lg font-semibold">
               Factor sets
             </h2>
-            {mayImport && (
-              <Link href={importLink} className={buttonClasses('primary')}>
-                Import a factor set
-              </Link>
-            )}
+            <div className="flex flex-wrap gap-3">
+              {fitLink && (
+                <Link href={fitLink} className={buttonClasses('secondary')}>
+                  Fit a factorization machine
+                </Link>
+              )}
+              {mayImport && (
+                <Link href={importLink} className={buttonClasses('primary')}>
+                  Import a factor set
+                </Link>
+              )}
+            </div>
           </div>
           <div className="overflow-x-auto border border-rule bg-paper-raised">
             <table className="tabular w-full text-left text-sm" data-testid="factor-sets-table">

@@ -8,6 +8,7 @@ export function WorkspaceTabs({ workspaceId, showSettings }: { workspaceId: stri
   const base = `/workspaces/${workspaceId}`;
   const tabs = [
     { href: base, label: 'Overview' },
+    { href: `${base}/fits`, label: 'Fits' },
     { href: `${base}/members`, label: 'Members' },
     ...(showSettings ? [{ href: `${base}/settings`, label: 'Settings' }] : []),
   ];
