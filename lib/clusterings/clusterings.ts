@@ -1,5 +1,4 @@
 import type { Kysely } from 'kysely';
-import { z } from 'zod';
 import type { ClusteringRow, Database } from '@/db/types';
 import { mulberry32 } from '@/lib/align/random';
 import { readMatrix } from '@/lib/factor-sets/blocks';
@@ -10,31 +9,8 @@ import { chooseKMeans } from '@/lib/projection/kmeans';
 import { cachedK, factorSetGraph } from '@/lib/projections/knn-cache';
 import type { DbOrTx } from '@/lib/users/users';
 
-/** k-means settings: the range of k tried (the silhouette picks one), Lloyd iterations and restarts. */
-export const kMeansParamsSchema = z
-  .strictObject({
-    kMin: z.number().int().min(2, 'kMin must be at least 2').max(50).default(2),
-    kMax: z.number().int().min(2).max(50, 'kMax must be at most 50').default(10),
-    maxIterations: z.number().int().min(1).max(1000).default(100),
-    restarts: z.number().int().min(1).max(100).default(10),
-  })
-  .refine((p) => p.kMin <= p.kMax, { error: 'kMin must not exceed kMax', path: ['kMin'] });
-
-/**
- * HDBSCAN settings (lib/projection/hdbscan.ts has the full meaning of each):
- * - minClusterSize: the smallest group reported as a cluster, 2 … number of entities (checked
- *   when requested), default 10. Larger: fewer, bigger clusters, small groups become noise;
- *   smaller: more, possibly spurious, small clusters. Common practice: about 1% of the entities.
- * - minSamples: neighbourhood of the density estimate, 1 … 200, default minClusterSize. Larger:
- *   smoother density, more points declared noise; smaller: fewer noise points, finer structure.
- */
-export const hdbscanParamsSchema = z.strictObject({
-  minClusterSize: z.number().int().min(2, 'minClusterSize must be at least 2').max(100_000, 'minClusterSize must be at most 100,000').default(10),
-  minSamples: z.number().int().min(1, 'minSamples must be at least 1').max(200, 'minSamples must be at most 200').optional(),
-});
-
-export const CLUSTERING_METHODS = ['kmeans', 'hdbscan'] as const;
-export type ClusteringMethod = (typeof CLUSTERING_METHODS)[number];
+export { CLUSTERING_METHODS, type ClusteringMethod, hdbscanParamsSchema, kMeansParamsSchema } from '@/lib/validation/clusterings';
+import { type ClusteringMethod, hdbscanParamsSchema, kMeansParamsSchema } from '@/lib/validation/clusterings';
 
 export interface Clustering {
   id: string;

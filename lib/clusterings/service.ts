@@ -90,3 +90,10 @@ export async function clusteringForReader(db: Kysely<Database>, actor: User, id:
   const silhouette = row.silhouette ? Array.from(floatsOf(row.silhouette)) : null;
   return { ...toClustering(row), labels, silhouette };
 }
+
+/** A factor set's cluster proposals, newest first, without their per-entity arrays. */
+export async function listClusteringsFor(db: Kysely<Database>, actor: User, factorSetId: string): Promise<Clustering[]> {
+  await requireFactorSetAccess(db, actor.id, factorSetId, 'workspace.view');
+  const rows = await db.selectFrom('clusterings').selectAll().where('factor_set_id', '=', factorSetId).orderBy('created_at', 'desc').orderBy('id').execute();
+  return rows.map(toClustering);
+}

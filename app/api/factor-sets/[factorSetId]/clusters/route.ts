@@ -1,16 +1,10 @@
-import { z } from 'zod';
 import { db } from '@/db';
 import { apiRoute, json, readJson } from '@/lib/api/route';
 import { requireActor } from '@/lib/auth/actor';
-import { requestClustering } from '@/lib/clusterings/service';
+import { listClusteringsFor, requestClustering } from '@/lib/clusterings/service';
+import { clusteringRequestSchema } from '@/lib/validation/clusterings';
 
 type Ctx = { params: Promise<{ factorSetId: string }> };
-
-const clusteringRequestSchema = z.strictObject({
-  method: z.enum(['kmeans', 'hdbscan'], { error: 'method is "kmeans" or "hdbscan"' }),
-  params: z.record(z.string(), z.unknown()).optional(),
-  seed: z.number().int().min(0).max(2 ** 31 - 1).default(42),
-});
 
 /**
  * `{method: "kmeans", params: {kMin, kMax, maxIterations, restarts}, seed}` or
@@ -23,4 +17,11 @@ export const POST = apiRoute(async (request, ctx: Ctx) => {
   const input = await readJson(request, clusteringRequestSchema);
   const { clustering, existing } = await requestClustering(db, user, factorSetId, input);
   return json({ id: clustering.id, status: clustering.status, existing }, existing ? 200 : 202);
+});
+
+/** `{items: [...]}`: the factor set's cluster proposals, newest first (labels via GET /api/clusterings/{id}). */
+export const GET = apiRoute(async (request, ctx: Ctx) => {
+  const { factorSetId } = await ctx.params;
+  const { user } = await requireActor(request);
+  return json({ items: await listClusteringsFor(db, user, factorSetId) });
 });

@@ -6,6 +6,7 @@ import { findFactorSet } from '@/lib/factor-sets/factor-sets';
 import { lastProjectionSettings } from '@/lib/factor-sets/preferences';
 import { workspaceForPage } from '@/lib/workspaces/page-access';
 import { can } from '@/lib/permissions';
+import { ClustersPanel } from './clusters-panel';
 import { EntitiesTable } from './entities-table';
 import { ProjectionsPanel } from './projections-panel';
 
@@ -115,6 +116,7 @@ export default async function FactorSetPage({ params }: { params: Promise<{ work
         )}
       </p>
       <ProjectionsPanel workspaceId={workspace.id} factorSetId={factorSet.id} mayRun={can(role, 'projections.run')} mayDelete={can(role, 'projections.delete')} lastSettings={lastSettings} />
+      <ClustersPanel factorSetId={factorSet.id} mayRun={can(role, 'projections.run')} />
       <EntitiesTable factorSetId={factorSet.id} metadataColumns={factorSet.metadataColumns} hasSpread={factorSet.draws > 0} />
     </div>
   );
