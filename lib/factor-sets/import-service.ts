@@ -37,7 +37,8 @@ export async function parseImport(source: ImportSource, fields: ImportFields, li
 }
 
 /** A matrix ready to store: point values, and with draws the aligned draws and their summaries. */
-interface Prepared {
+/** A factor set ready to store: ids, values and (aligned) draws. */
+export interface Prepared {
   ids: string[];
   dims: number;
   values: Float32Array;
@@ -108,14 +109,15 @@ function* entityCopyChunks(
   if (lines.length) yield lines.join('');
 }
 
-async function insertPrepared(
+/** Writes one factor set (row, entities by COPY, value and draw blocks) inside the caller's transaction. */
+export async function insertPrepared(
   tx: BulkTransaction,
   input: {
     workspaceId: string;
-    userId: string;
+    userId: string | null;
     name: string;
     format: string;
-    source: StagedFile;
+    source: Pick<StagedFile, 'name' | 'bytes' | 'sha256'>;
     report: ImportReport;
     prepared: Prepared;
     labels: (string | null)[] | null;

@@ -1,8 +1,8 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '@/db/types';
 import { generalisedProcrustes } from '@/lib/align';
-import { rowsPerBlock, writeDrawBlocks, writeMatrixBlocks } from '@/lib/factor-sets/blocks';
-import { type BulkTransaction, copyField, withBulkTransaction } from '@/lib/factor-sets/bulk';
+import { type BulkTransaction, withBulkTransaction } from '@/lib/factor-sets/bulk';
+import { insertPrepared } from '@/lib/factor-sets/import-service';
 import type { ImportReport } from '@/lib/factor-sets/factor-sets';
 import type { FitResult } from '@/lib/fit/fit-factorization-machine';
 import type { MetadataColumn, MetadataValue } from '@/lib/import/types';
@@ -38,57 +38,21 @@ interface Side {
   report: ImportReport;
 }
 
-const COPY_CHUNK_ROWS = 5_000;
-
-function* entityCopyChunks(factorSetId: string, side: Side): Generator<string> {
-  let lines: string[] = [];
-  for (let i = 0; i < side.ids.length; i += 1) {
-    const values = side.metadata[i];
-    const meta = values ? JSON.stringify(Object.fromEntries(side.metadataColumns.map((c, j) => [c.name, values[j] ?? null]))) : null;
-    const spread = side.draws ? (side.draws.spread[i] ?? null) : null;
-    lines.push(`${factorSetId}\t${i}\t${copyField(side.ids[i] ?? '')}\t\\N\t${copyField(meta)}\t${copyField(spread)}\n`);
-    if (lines.length === COPY_CHUNK_ROWS) {
-      yield lines.join('');
-      lines = [];
-    }
-  }
-  if (lines.length) yield lines.join('');
-}
-
-async function insertSide(tx: BulkTransaction, fit: Fit, side: Side, jointPartnerId: string | null): Promise<string> {
-  const rows = side.ids.length;
-  const blockRows = rowsPerBlock(side.dims);
-  const drawBlockRows = side.draws ? rowsPerBlock(side.draws.count * side.dims) : null;
-  const [row] = await tx.execute(
-    tx.builder
-      .insertInto('factor_sets')
-      .values({
-        workspace_id: fit.workspaceId,
-        name: side.name,
-        format: FITTED_FORMAT,
-        rows,
-        dims: side.dims,
-        draws: side.draws?.count ?? 0,
-        block_rows: blockRows,
-        draw_block_rows: drawBlockRows,
-        source_name: fit.sourceName,
-        source_bytes: fit.sourceBytes,
-        checksum_sha256: fit.checksumSha256,
-        metadata_columns: JSON.stringify(side.metadataColumns),
-        parse_report: JSON.stringify(side.report),
-        joint_partner_id: jointPartnerId,
-        created_by: fit.createdBy,
-      })
-      .returning('id'),
-  );
-  if (!row) throw new Error('insert into factor_sets returned no row');
-  await tx.copy('copy factor_set_entities (factor_set_id, idx, entity_id, label, metadata, spread) from stdin', entityCopyChunks(row.id, side));
-  await writeMatrixBlocks(tx, row.id, 'values', side.values, rows, side.dims, blockRows);
-  if (side.draws && drawBlockRows) {
-    await writeMatrixBlocks(tx, row.id, 'sd', side.draws.sd, rows, side.dims, blockRows);
-    await writeDrawBlocks(tx, row.id, side.draws.aligned, side.draws.count, rows, side.dims, drawBlockRows);
-  }
-  return row.id;
+/** A fitted side is stored exactly as an imported factor set is (no labels: ids are the labels). */
+function insertSide(tx: BulkTransaction, fit: Fit, side: Side, jointPartnerId: string | null): Promise<string> {
+  return insertPrepared(tx, {
+    workspaceId: fit.workspaceId,
+    userId: fit.createdBy,
+    name: side.name,
+    format: FITTED_FORMAT,
+    source: { name: fit.sourceName, bytes: fit.sourceBytes, sha256: fit.checksumSha256 },
+    report: side.report,
+    prepared: { ids: side.ids, dims: side.dims, values: side.values, draws: side.draws },
+    labels: null,
+    metadata: side.metadata,
+    metadataColumns: side.metadataColumns,
+    ...(jointPartnerId ? { jointPartnerId } : {}),
+  });
 }
 
 function countsOf(index: Int32Array, size: number): Int32Array {
