@@ -23,6 +23,9 @@ export DEV_MAIL_DIR="$DATA_DIR/test-mail"
 export ASTERISM_DEMO_SEED=1
 # The demo's projection jobs would compete with the tests' own for the one test worker.
 export ASTERISM_DEMO_PROJECTIONS=0
+# A worker killed mid-job is noticed after the job's time limit; the test of that needs it short
+# (every test projection finishes well within 30 s).
+export JOB_EXPIRE_SECONDS="${JOB_EXPIRE_SECONDS:-30}" JOB_MAINTENANCE_SECONDS="${JOB_MAINTENANCE_SECONDS:-3}"
 # The whole suite signs in from 127.0.0.1; the per-address limit is tested on its own.
 export SIGN_IN_MAX_FAILURES_PER_ADDRESS="${SIGN_IN_MAX_FAILURES_PER_ADDRESS:-10000}"
 rm -rf "$DEV_MAIL_DIR"

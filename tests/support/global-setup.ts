@@ -1,4 +1,5 @@
 import { type ChildProcess, spawn } from 'node:child_process';
+import type { TestProject } from 'vitest/node';
 import { testConfig } from './config';
 
 /**
@@ -32,7 +33,14 @@ async function waitFor(url: string, timeoutMs: number): Promise<void> {
   throw new Error(`${url} did not answer within ${timeoutMs} ms: ${String(lastError)}`);
 }
 
-export default async function setup(): Promise<() => Promise<void>> {
+declare module 'vitest' {
+  export interface ProvidedContext {
+    /** Process group of the test worker (scripts/worker.ts), for the test that pauses it. */
+    workerProcessGroup: number;
+  }
+}
+
+export default async function setup(project: TestProject): Promise<() => Promise<void>> {
   // Unit tests alone need no server: `ASTERISM_TEST_SERVER=0 npx vitest run tests/unit`.
   if (process.env.ASTERISM_TEST_SERVER === '0') return async () => {};
   const { port, baseUrl } = testConfig();
@@ -43,7 +51,10 @@ export default async function setup(): Promise<() => Promise<void>> {
   const app = start('app', 'npx', ['next', 'start', '-H', '127.0.0.1', '-p', String(port)]);
   const worker = start('worker', 'npx', ['tsx', '--conditions=react-server', 'scripts/worker.ts']);
   await waitFor(`${baseUrl}/api/health`, 60_000);
+  if (worker.pid !== undefined) project.provide('workerProcessGroup', worker.pid);
   return async () => {
+    // A test that paused the worker may have failed before resuming it.
+    if (worker.pid !== undefined && worker.exitCode === null) process.kill(-worker.pid, 'SIGCONT');
     for (const child of [app, sink, worker]) {
       if (child.pid !== undefined && child.exitCode === null) process.kill(-child.pid, 'SIGTERM');
     }
