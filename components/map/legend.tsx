@@ -18,6 +18,7 @@ export function ProjectionScores({ projection }: { projection: MapProjectionInfo
   return (
     <span className="tabular text-ink-muted" data-testid="projection-scores" title="Trustworthiness and continuity at k = 15 (1 is perfect), share of 15 nearest neighbours kept, Spearman correlation of latent and map distances, normalised stress">
       T₁₅ {fmt(q.trustworthiness['15'])} · C₁₅ {fmt(q.continuity['15'])} · kNN {fmt(q.knnPreservation)} · ρ {fmt(q.shepardRho)} · stress {fmt(q.stress)}
+      {q.sampledQueries ? ` · estimated from ${q.sampledQueries} sampled entities` : ''}
       {q.explainedVariance ? ` · variance ${q.explainedVariance.map((v) => `${(v * 100).toFixed(1)}%`).join(' + ')}` : ''}
     </span>
   );

@@ -12,6 +12,8 @@ export interface ProjectionQuality {
   stress: number;
   explainedVariance?: number[];
   sammonStress?: number;
+  /** Set when the scores were estimated from this many sampled entities (large factor sets); continuity is then null. */
+  sampledQueries?: number;
 }
 
 export interface Projection {

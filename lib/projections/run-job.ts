@@ -8,6 +8,7 @@ import { firstNeighbours } from '@/lib/projection/knn-graph';
 import { runProjection } from '@/lib/projection/methods';
 import { factorSetGraph } from './knn-cache';
 import { findProjection, type ProjectionQuality, writeProjectionBlocks } from './projections';
+import { SAMPLED_FIDELITY_MAX_ENTITIES, sampledProjectionQuality } from './sampled-fidelity';
 
 /**
  * Above this many entities the exact fidelity scores (O(n²·d)) would take longer than the layout;
@@ -74,7 +75,7 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     const knn = cached?.graph;
     if (controller.signal.aborted) throw new Cancelled('cancelled');
 
-    const layoutShare = scoreFidelity ? 0.8 : 0.95;
+    const layoutShare = scoreFidelity || n <= SAMPLED_FIDELITY_MAX_ENTITIES ? 0.8 : 0.95;
     const result = await runProjection({
       data: values,
       n,
@@ -106,6 +107,13 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
         ...(result.stress !== undefined ? { sammonStress: result.stress } : {}),
       };
       perPoint = scores.perPoint;
+    } else if (n <= SAMPLED_FIDELITY_MAX_ENTITIES) {
+      report(0.05 + layoutShare, 'fidelity scores (sampled)', true);
+      quality = {
+        ...sampledProjectionQuality(values, n, d, result.coordinates, metric, mulberry32(projection.seed), (share) => report(0.05 + layoutShare + (0.95 - layoutShare) * share, 'fidelity scores (sampled)')),
+        ...(result.explainedVarianceRatio ? { explainedVariance: result.explainedVarianceRatio } : {}),
+        ...(result.stress !== undefined ? { sammonStress: result.stress } : {}),
+      };
     }
     await pending;
     if (controller.signal.aborted) throw new Cancelled('cancelled');
