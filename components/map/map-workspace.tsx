@@ -283,7 +283,7 @@ export function MapWorkspace(props: MapWorkspaceProps) {
             {hoverText}
           </div>
         )}
-        <MapLegend legend={which === 'main' ? colouring.legend : colouring.legend} method={info.method} />
+        <MapLegend legend={colouring.legend} method={info.method} />
       </div>
     </section>
   );
