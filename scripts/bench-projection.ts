@@ -19,6 +19,7 @@
  *   npm run bench:projection               # everything (about 20 minutes on two busy cores)
  *   npm run bench:projection -- --quick    # digits and 10,000 × 32, no MASS at 5,000 (~5 minutes)
  *   npm run bench:projection -- --no-reference
+ *   npm run bench:projection -- --quick --umap-js   # also UMAP by umap-js itself, the reference engine
  */
 import { execFileSync, spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -31,11 +32,16 @@ import { sampledTrustworthiness, trustworthiness } from '../lib/projection/fidel
 import { type KnnGraph, exactKnnOfRows, exactKnnParallel } from '../lib/projection/knn';
 import { approxKnn, knnRecall } from '../lib/projection/knn-approx';
 import { runProjection } from '../lib/projection/methods';
+import { ProgressReporter } from '../lib/projection/job-control';
+import { parseProjectionParams } from '../lib/projection/params';
 import { SAMMON_MAX_POINTS } from '../lib/projection/sammon';
+import { DEFAULT_UMAP_ENGINE, runUmap } from '../lib/projection/umap';
 
 const args = new Set(process.argv.slice(2));
 const quick = args.has('--quick');
 const withReference = !args.has('--no-reference');
+/** Also time UMAP's reference engine, umap-js (lib/projection/umap.ts), on the same graph. */
+const withUmapJs = args.has('--umap-js');
 const THREADS = 2;
 const K = 15;
 const root = path.resolve(import.meta.dirname, '..');
@@ -264,12 +270,18 @@ async function bench(set: Dataset): Promise<void> {
   // without the graph (the cache supplies it), like uwot's time includes its own search.
   const graph = set.n <= 20_000 && exact ? exact : approx.value;
   const umap = await timed(() => runProjection({ data: set.data, n: set.n, d: set.d, method: 'umap', params: {}, seed: 42, knn: graph }));
-  const umapRow: Row = { dataset: set.name, step: 'UMAP (graph given)', seconds: umap.seconds, peakMb: umap.peakMb, quality: `T(15) ${trust15(set, umap.value.coordinates).toFixed(4)}` };
+  const umapRow: Row = { dataset: set.name, step: `UMAP ${DEFAULT_UMAP_ENGINE} (graph given)`, seconds: umap.seconds, peakMb: umap.peakMb, quality: `T(15) ${trust15(set, umap.value.coordinates).toFixed(4)}` };
   if (haveR) {
     const reference = uwotReference(set, file);
     umapRow.reference = { name: 'uwot (incl. its kNN)', seconds: reference.seconds, peakMb: reference.peakMb, quality: `T(15) ${trust15(set, reference.layout).toFixed(4)}` };
   }
   push(umapRow);
+  // The reference engine on the same graph and seed, on request (slow: minutes at 10,000 points).
+  if (withUmapJs) {
+    const params = parseProjectionParams('umap', {}, set.n);
+    const reference = await timed(() => runUmap({ data: set.data, n: set.n, d: set.d, params, seed: 42, knn: graph, engine: 'umap-js', progress: new ProgressReporter(undefined) }));
+    push({ dataset: set.name, step: 'UMAP umap-js (graph given)', seconds: reference.seconds, peakMb: reference.peakMb, quality: `T(15) ${trust15(set, reference.value).toFixed(4)}` });
+  }
 
   // Sammon: up to SAMMON_MAX_POINTS rows (its O(n²) distance matrix).
   const sammonSet: Dataset = set.n <= SAMMON_MAX_POINTS ? set : { name: `${set.name} (first 5,000)`, data: set.data.slice(0, 5000 * set.d), n: 5000, d: set.d };

@@ -5,7 +5,8 @@
  *
  *   - pca: our exact PCA (pca.ts), the scores on the first two components, and their explained
  *     variance ratios. Deterministic without randomness; the seed has no effect.
- *   - umap: umap-js 1.4.0 on our kNN graph, from a PCA start (umap.ts).
+ *   - umap: our typed-array kernel of umap-js 1.4.0's algorithm (umap-kernel.ts) on our kNN graph,
+ *     from a PCA start (umap.ts); umap-js itself remains the reference engine.
  *   - sammon: our Sammon mapping (sammon.ts), from the PCA start, final stress reported. No
  *     randomness; the seed has no effect.
  *   - tsne: druid.js 0.9.0's exact t-SNE with its seeded start (tsne.ts).
@@ -20,7 +21,7 @@ import { type PcaParams, type ProjectionMethod, type SammonParams, parseProjecti
 import { fitPca, transformPca } from './pca';
 import { sammonAsync } from './sammon';
 import { DRUID_VERSION, runTsne } from './tsne';
-import { UMAP_JS_VERSION, runUmap } from './umap';
+import { DEFAULT_UMAP_ENGINE, runUmap, UMAP_ENGINE_VERSIONS } from './umap';
 
 export type { ProjectionMethod } from './params';
 export {
@@ -81,7 +82,7 @@ export interface ProjectionResult {
 /** Library strings stored with each method's projections. */
 export const PROJECTION_LIBRARY_VERSIONS: Record<ProjectionMethod, string> = {
   pca: 'asterism pca',
-  umap: `umap-js ${UMAP_JS_VERSION}`,
+  umap: UMAP_ENGINE_VERSIONS[DEFAULT_UMAP_ENGINE],
   sammon: 'asterism sammon',
   tsne: `@saehrimnir/druidjs ${DRUID_VERSION}`,
 };

@@ -1,41 +1,39 @@
 /**
  * UMAP (McInnes, Healy & Melville, "UMAP: Uniform Manifold Approximation and Projection for
- * Dimension Reduction", arXiv:1802.03426, 2018) by umap-js 1.4.0, the reference implementation of
- * issue 4, with two of its steps replaced by ours:
+ * Dimension Reduction", arXiv:1802.03426, 2018) as umap-js 1.4.0 (the reference implementation of
+ * issue 4) computes it, with three of its steps replaced by ours:
  *
  *   1. Neighbour graph: ours (knn-graph.ts: exact search up to EXACT_KNN_MAX_WORK, our NN-descent
  *      beyond; shared with the fidelity scores and the map's neighbour queries) instead of
- *      umap-js's NN-descent, handed over with setPrecomputedKNN.
+ *      umap-js's NN-descent.
  *      umap-js, like umap-learn and uwot, counts the point itself as its first neighbour (its
  *      smoothKNNDistance skips column 0 and its membership strengths give a self-edge weight 0),
- *      so nNeighbors = 15 means the point plus its 14 nearest others: we prepend the point at
- *      distance 0 to its first nNeighbors − 1 neighbours from our graph (which excludes the point).
+ *      so nNeighbors = 15 means the point plus its 14 nearest others: both engines use the first
+ *      nNeighbors − 1 neighbours from our graph (which excludes the point) plus the point itself.
  *   2. Start layout: umap-js starts from a uniform random layout in [−10, 10]². We start from the
  *      first two principal components, scaled as umap-learn scales its PCA start (umap_.py, from
  *      memory of umap-learn 0.5: noisy_scale_coords with max_coord = 10 and noise = 1e-4, then
- *      simplicial_set_embedding rescales each coordinate to [0, 10]). umap-js has no option for a
- *      start; initializeFit builds the random one, and getEmbedding() returns the very arrays the
- *      optimiser then moves (optimizationState.headEmbedding and tailEmbedding are that same
- *      array), so we overwrite them in place before the first step(). The random start still
- *      consumes n·2 draws from the seeded generator; that is deterministic, so harmless.
+ *      simplicial_set_embedding rescales each coordinate to [0, 10]). The uniform start is still
+ *      drawn first (n·2 draws from the seeded generator) and then overwritten, by both engines, so
+ *      the negative samples come from the same place in the stream whichever start is chosen.
+ *   3. Fuzzy graph and layout epochs (engine 'asterism', the default): our typed-array kernel
+ *      (umap-kernel.ts) instead of umap-js's Map-backed sparse matrices and number[][] epochs,
+ *      which missed issue 4's benchmark goal (10,000 × 32: 141 s and 652 MB against uwot's 24.5 s;
+ *      50,000 × 32: 358 s and 2.66 GB against 73 s). It is umap-js's algorithm operation for
+ *      operation, checked against umap-js on the same graph and start
+ *      (tests/unit/projection/umap-kernel.test.ts: bit-identical with exact powers; trustworthiness
+ *      within 0.005 with the fast powers it uses by default). Engine 'umap-js' runs umap-js itself,
+ *      kept as that reference: its API takes number[][], so the factor rows and the kNN graph are
+ *      converted at that boundary and the layout converted back to a Float32Array at the end.
  *
- * umap-js works on number[][] throughout (its own API): the factor rows and the kNN graph are
- * converted from our typed arrays at this boundary, once, and the layout converted back to a
- * Float32Array at the end. That costs O(n·(d + k)) boxed numbers, small next to umap-js's own
- * sparse matrices; the per-epoch work stays inside umap-js.
- *
- * Randomness: umap-js draws negative samples from the `random` function it is given; we give it
- * mulberry32(seed), so the same input, settings and seed give bit-identical coordinates.
+ * Randomness: both engines draw the start and the negative samples from mulberry32(seed), so the
+ * same input, settings, seed and engine give bit-identical coordinates. The engine is part of
+ * what reproduces a projection: UMAP_ENGINE_VERSIONS gives the string to store with it.
  *
  * Spectral start (umap-learn's default) is not offered: it needs the smallest eigenvectors of the
  * normalised graph Laplacian (a sparse eigensolver, e.g. LOBPCG or shift-invert Lanczos), which
  * neither umap-js nor our dependencies provide; PCA is the start uwot and umap-learn both offer as
  * the cheap alternative.
- *
- * Performance note (issue 4, Benchmark): umap-js's layout step dominates at 10k+ points; issue 4
- * asks for our own typed-array epoch kernel where umap-js misses the goal. This module keeps
- * umap-js's step() (the reference); a faster kernel, checked against it on the same graph, can
- * replace the epoch loop below without changing the interface.
  */
 import { UMAP } from 'umap-js';
 import { mulberry32, normalGenerator } from '../align/random';
@@ -44,6 +42,7 @@ import type { KnnGraph } from './knn';
 import { knnGraph } from './knn-graph';
 import type { UmapParams } from './params';
 import { pcaScores } from './start-layout';
+import { UmapLayout, curveParameters, fuzzySimplicialSet, pruneFuzzyGraph } from './umap-kernel';
 
 /** The umap-js release this module is written against (checked against node_modules in the tests). */
 export const UMAP_JS_VERSION = '1.4.0';
@@ -65,6 +64,8 @@ export interface UmapRun {
   knn?: KnnGraph;
   progress: ProgressReporter;
   signal?: AbortSignal;
+  /** Implementation of the fuzzy graph and layout (internal; default DEFAULT_UMAP_ENGINE). */
+  engine?: UmapEngine;
 }
 
 /**
@@ -109,10 +110,47 @@ export function umapPcaStart(data: Float32Array, n: number, d: number, unitRows:
   return start;
 }
 
+/**
+ * Which implementation runs the fuzzy graph and the layout:
+ *   - 'asterism' (default): our typed-array kernel (umap-kernel.ts), which computes what umap-js
+ *     1.4.0 computes, operation for operation, on flat typed arrays (see that module for why);
+ *   - 'umap-js': umap-js 1.4.0 itself, kept as the reference the kernel is checked against
+ *     (tests/unit/projection/umap-kernel.test.ts) and for reproducing projections stored with it.
+ * Both take the same neighbour graph, start and seeded generator.
+ */
+export type UmapEngine = 'asterism' | 'umap-js';
+
+/** The engine runUmap uses when none is named. */
+export const DEFAULT_UMAP_ENGINE: UmapEngine = 'asterism';
+
+/**
+ * The library string to store with a projection made by each engine (methods.ts stores one per
+ * method). The kernel's layouts differ from umap-js's in the last bits (its fast powers, see
+ * umap-kernel.ts LayoutSettings.exactPow) and so, after the stochastic descent, in the picture, so
+ * it has a string of its own; bump its number when its arithmetic changes.
+ */
+export const UMAP_ENGINE_VERSIONS: Record<UmapEngine, string> = {
+  asterism: `asterism umap-kernel 1 (umap-js ${UMAP_JS_VERSION} algorithm)`,
+  'umap-js': `umap-js ${UMAP_JS_VERSION}`,
+};
+
+/**
+ * The uniform start umap-js draws, n × 2 in [−10, 10]: random() · 20 − 10 per point and
+ * coordinate, in that order. The 'asterism' engine draws it too, even under a PCA start (where it
+ * is overwritten), so that the negative samples come from the same place in the stream as umap-js's.
+ */
+function uniformStart(n: number, random: () => number): Float64Array {
+  const start = new Float64Array(n * 2);
+  for (let index = 0; index < n * 2; index++) start[index] = random() * 20 + -10;
+  return start;
+}
+
 /** Runs UMAP; see the module comment. Returns the n × 2 layout. */
 export async function runUmap(run: UmapRun): Promise<Float32Array> {
   const { data, n, d, params, seed, progress, signal } = run;
   const { nNeighbors, metric } = params;
+  const engine = run.engine ?? DEFAULT_UMAP_ENGINE;
+  if (engine !== 'asterism' && engine !== 'umap-js') throw new RangeError(`UMAP: unknown engine ${JSON.stringify(engine)}`);
   throwIfCancelled(signal);
 
   let knnShare = 0;
@@ -121,16 +159,66 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
     knnShare = SHARE_KNN;
     progress.report(0, 'neighbour graph');
     // Exact or approximate by size (knn-graph.ts); the approximate search draws from a stream of
-    // its own (seed mixed with a constant), so it does not shift umap-js's draws.
+    // its own (seed mixed with a constant), so it does not shift the layout's draws.
     const random = mulberry32((seed ^ 0x9e3779b9) >>> 0);
     graph = (await cancellable(signal, () => knnGraph(data, n, d, nNeighbors - 1, metric, random, signal ? { signal } : {}))).graph;
   }
   checkUmapGraph(graph, n, nNeighbors, metric);
+  // umap-js refuses n ≤ nNeighbors; the same rule for both engines (params.ts enforces it too).
+  if (n <= nNeighbors) throw new RangeError(`UMAP: ${n} points are too few for nNeighbors = ${nNeighbors}`);
   throwIfCancelled(signal);
   progress.report(knnShare, 'fuzzy neighbour graph');
   await yieldToEventLoop();
   throwIfCancelled(signal);
 
+  const setupEnd = knnShare + SHARE_SETUP;
+  const nEpochs = params.nEpochs;
+  const random = mulberry32(seed);
+  let step: () => void;
+  let result: () => Float32Array;
+  if (engine === 'asterism') {
+    const fuzzy = pruneFuzzyGraph(fuzzySimplicialSet(graph, nNeighbors), nEpochs);
+    const embedding = uniformStart(n, random);
+    if (params.init === 'pca') embedding.set(umapPcaStart(data, n, d, metric === 'cosine', seed));
+    const { a, b } = curveParameters(params.minDist, params.spread);
+    const layout = new UmapLayout(fuzzy, embedding, { a, b, nEpochs, random });
+    step = () => {
+      layout.step();
+    };
+    result = () => Float32Array.from(layout.embedding);
+  } else {
+    const umap = umapJsFit(run, graph, random);
+    step = () => {
+      umap.step();
+    };
+    result = () => {
+      const embedding = umap.getEmbedding();
+      const coordinates = new Float32Array(n * 2);
+      for (let i = 0; i < n; i++) {
+        const point = embedding[i] as number[];
+        coordinates[i * 2] = point[0] as number;
+        coordinates[i * 2 + 1] = point[1] as number;
+      }
+      return coordinates;
+    };
+  }
+
+  progress.report(setupEnd, `optimising layout, epoch 0/${nEpochs}`);
+  const epochs = progress.span(setupEnd, 1);
+  for (let epoch = 1; epoch <= nEpochs; epoch++) {
+    step();
+    if (epoch % REPORT_EVERY === 0 || epoch === nEpochs) epochs(epoch / nEpochs, `optimising layout, epoch ${epoch}/${nEpochs}`);
+    // Every epoch: setImmediate costs microseconds, an epoch of 1,000+ points milliseconds.
+    await yieldToEventLoop();
+    throwIfCancelled(signal);
+  }
+  return result();
+}
+
+/** umap-js set up on our graph and start, ready for its step() (the reference engine). */
+function umapJsFit(run: UmapRun, graph: KnnGraph, random: () => number): UMAP {
+  const { data, n, d, params, seed } = run;
+  const { nNeighbors, metric } = params;
   // umap-js's API boundary: arrays of arrays (see the module comment).
   const k = graph.k;
   const knnIndices: number[][] = new Array<number[]>(n);
@@ -150,16 +238,9 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
   const rows: number[][] = new Array<number[]>(n);
   for (let i = 0; i < n; i++) rows[i] = Array.from(data.subarray(i * d, (i + 1) * d));
 
-  const umap = new UMAP({
-    nComponents: 2,
-    nNeighbors,
-    minDist: params.minDist,
-    spread: params.spread,
-    nEpochs: params.nEpochs,
-    random: mulberry32(seed),
-  });
+  const umap = new UMAP({ nComponents: 2, nNeighbors, minDist: params.minDist, spread: params.spread, nEpochs: params.nEpochs, random });
   umap.setPrecomputedKNN(knnIndices, knnDistances);
-  const nEpochs = umap.initializeFit(rows);
+  umap.initializeFit(rows);
 
   if (params.init === 'pca') {
     const start = umapPcaStart(data, n, d, metric === 'cosine', seed);
@@ -171,24 +252,5 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
       point[1] = start[i * 2 + 1] as number;
     }
   }
-
-  const setupEnd = knnShare + SHARE_SETUP;
-  progress.report(setupEnd, `optimising layout, epoch 0/${nEpochs}`);
-  const epochs = progress.span(setupEnd, 1);
-  for (let epoch = 1; epoch <= nEpochs; epoch++) {
-    umap.step();
-    if (epoch % REPORT_EVERY === 0 || epoch === nEpochs) epochs(epoch / nEpochs, `optimising layout, epoch ${epoch}/${nEpochs}`);
-    // Every epoch: setImmediate costs microseconds, an epoch of 1,000+ points milliseconds.
-    await yieldToEventLoop();
-    throwIfCancelled(signal);
-  }
-
-  const embedding = umap.getEmbedding();
-  const coordinates = new Float32Array(n * 2);
-  for (let i = 0; i < n; i++) {
-    const point = embedding[i] as number[];
-    coordinates[i * 2] = point[0] as number;
-    coordinates[i * 2 + 1] = point[1] as number;
-  }
-  return coordinates;
+  return umap;
 }
