@@ -67,7 +67,9 @@ export function EntityPanel(props: EntityPanelProps) {
           {props.cloud.draws} posterior draws shown around the point with a two-SD ellipse
           {props.cloud.placement === 'linear'
             ? ' (projected exactly through the PCA loadings).'
-            : ' (each placed among its latent neighbours on the map — an approximation, since this method has no exact transform).'}
+            : props.cloud.placement === 'transform'
+              ? " (each placed by UMAP's transform against this fixed layout: where the layout would put such a point, not a re-run)."
+              : ' (each placed among its latent neighbours on the map — an approximation, since this method has no transform).'}
         </p>
       )}
       <div className="flex items-end gap-2 text-xs">

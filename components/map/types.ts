@@ -82,7 +82,7 @@ export interface NeighbourAnswer {
 
 export interface DrawCloudAnswer {
   entity: { index: number; id: string };
-  placement: 'linear' | 'neighbours';
+  placement: 'linear' | 'transform' | 'neighbours';
   draws: number;
   points: number[];
   ellipse: { cx: number; cy: number; rx: number; ry: number; angle: number };

@@ -484,3 +484,103 @@ export class UmapLayout {
 function clip(x: number): number {
   return x > GRADIENT_CLIP ? GRADIENT_CLIP : x < -GRADIENT_CLIP ? -GRADIENT_CLIP : x;
 }
+
+export interface TransformSettings {
+  /** Curve parameters of the fitted layout (curveParameters(minDist, spread)). */
+  a: number;
+  b: number;
+  /** The fitted layout's nNeighbors: each new point joins its nNeighbors − 1 nearest fitted points. */
+  nNeighbors: number;
+  /**
+   * Epochs that move the new points, ≥ 1. A third of the fit's is enough (the fitted layout is
+   * fixed, only local placement is refined; umap-learn's transform uses a fraction of the fit's
+   * epochs too — from memory); more cost linearly and change little.
+   */
+  nEpochs: number;
+  /** Seeded uniform generator for the negative samples. */
+  random: UniformGenerator;
+}
+
+/**
+ * Places new points (an entity's posterior draws, say) on a fitted UMAP layout, as the reference
+ * algorithm's transform does. Each new point gets membership strengths to its nNeighbors − 1
+ * nearest fitted points (smooth-kNN distances on its own neighbour distances), starts at the
+ * strength-weighted mean of their positions, and is then moved by SGD epochs in which only the
+ * new points move: attracted along their edges, repelled from uniformly drawn fitted points. The
+ * fitted layout stays as it is, so the answer is where the layout would put such a point.
+ *
+ * @param embedding - the fitted n × 2 layout (row-major).
+ * @param neighbours - for each of q new points, its nNeighbors − 1 nearest fitted points (indices
+ *   into the layout) and distances in the latent metric, nearest first: q × (nNeighbors − 1).
+ * @returns q × 2 positions.
+ */
+export function transformUmap(embedding: Float32Array, neighbours: { q: number; indices: Int32Array; distances: Float32Array }, settings: TransformSettings): Float64Array {
+  const m = settings.nNeighbors - 1;
+  const { q, indices } = neighbours;
+  const n = embedding.length / 2;
+  if (indices.length !== q * m || neighbours.distances.length !== q * m) throw new RangeError(`UMAP transform: expected q × ${m} neighbours`);
+  if (!Number.isInteger(settings.nEpochs) || settings.nEpochs < 1) throw new RangeError(`UMAP transform: nEpochs must be a positive integer, got ${settings.nEpochs}`);
+  const { rhos, sigmas } = smoothKnnDistances({ n: q, k: m, metric: 'euclidean', indices, distances: neighbours.distances }, settings.nNeighbors);
+  const weights = new Float64Array(q * m);
+  let max = 0;
+  const out = new Float64Array(q * 2);
+  for (let r = 0; r < q; r++) {
+    let wx = 0;
+    let wy = 0;
+    let total = 0;
+    for (let s = 0; s < m; s++) {
+      const e = r * m + s;
+      const excess = (neighbours.distances[e] as number) - (rhos[r] as number);
+      const w = excess > 0 ? Math.exp(-excess / (sigmas[r] as number)) : 1;
+      weights[e] = w;
+      if (w > max) max = w;
+      const j = indices[e] as number;
+      wx += w * (embedding[2 * j] as number);
+      wy += w * (embedding[2 * j + 1] as number);
+      total += w;
+    }
+    out[2 * r] = total > 0 ? wx / total : 0;
+    out[2 * r + 1] = total > 0 ? wy / total : 0;
+  }
+  const { a, b, nEpochs, random } = settings;
+  const count = q * m;
+  const perSample = new Float64Array(count).fill(-1);
+  for (let e = 0; e < count; e++) {
+    const samples = max > 0 ? ((weights[e] as number) / max) * nEpochs : 0;
+    if (samples > 0) perSample[e] = nEpochs / samples;
+  }
+  const perNegative = perSample.map((v) => v / NEGATIVE_SAMPLE_RATE);
+  const nextSample = perSample.slice();
+  const nextNegative = perNegative.slice();
+  for (let epoch = 0; epoch < nEpochs; epoch++) {
+    const alpha = INITIAL_LEARNING_RATE * (1 - epoch / nEpochs);
+    for (let e = 0; e < count; e++) {
+      if ((perSample[e] as number) <= 0 || (nextSample[e] as number) > epoch) continue;
+      const r = Math.floor(e / m);
+      const j = indices[e] as number;
+      const dx = (out[2 * r] as number) - (embedding[2 * j] as number);
+      const dy = (out[2 * r + 1] as number) - (embedding[2 * j + 1] as number);
+      const d2 = dx * dx + dy * dy;
+      if (d2 > 0) {
+        const power = Math.exp(b * Math.log(d2));
+        const coeff = (-2 * a * b * (power / d2)) / (a * power + 1);
+        out[2 * r] = (out[2 * r] as number) + clip(coeff * dx) * alpha;
+        out[2 * r + 1] = (out[2 * r + 1] as number) + clip(coeff * dy) * alpha;
+      }
+      nextSample[e] = (nextSample[e] as number) + (perSample[e] as number);
+      const negatives = Math.floor((epoch - (nextNegative[e] as number)) / (perNegative[e] as number));
+      for (let p = 0; p < negatives; p++) {
+        const other = Math.floor(random() * n);
+        const ox = (out[2 * r] as number) - (embedding[2 * other] as number);
+        const oy = (out[2 * r + 1] as number) - (embedding[2 * other + 1] as number);
+        const o2 = ox * ox + oy * oy;
+        if (o2 <= 0) continue;
+        const repel = (2 * REPULSION_STRENGTH * b) / ((0.001 + o2) * (a * Math.exp(b * Math.log(o2)) + 1));
+        out[2 * r] = (out[2 * r] as number) + clip(repel * ox) * alpha;
+        out[2 * r + 1] = (out[2 * r + 1] as number) + clip(repel * oy) * alpha;
+      }
+      nextNegative[e] = (nextNegative[e] as number) + negatives * (perNegative[e] as number);
+    }
+  }
+  return out;
+}

@@ -4,21 +4,25 @@ import type { Database } from '@/db/types';
 import { ApiError, notFound } from '@/lib/api/errors';
 import { floatsOf, readMatrix } from '@/lib/factor-sets/blocks';
 import { findFactorSet } from '@/lib/factor-sets/factor-sets';
+import { mulberry32 } from '@/lib/align/random';
 import { fitPca, transformPca } from '@/lib/projection/pca';
+import { curveParameters, transformUmap } from '@/lib/projection/umap-kernel';
 import { readProjectionBlocks } from '@/lib/projections/projections';
 import type { Projection } from '@/lib/projections/projections';
 
 /**
  * Where an entity's posterior draws land on a map.
  * - `linear` (PCA): each draw through the projection's own loadings — exact.
- * - `neighbours` (UMAP, t-SNE, Sammon): those layouts have no transform stored here, so each draw is
+ * - `transform` (UMAP): each draw placed by UMAP's own transform against the fixed layout
+ *   (lib/projection/umap-kernel.ts transformUmap), with the projection's settings.
+ * - `neighbours` (t-SNE, Sammon): those layouts have no transform, so each draw is
  *   placed at the inverse-distance-weighted mean of the map positions of its `NEIGHBOURS` nearest
  *   entities in latent space — the usual out-of-sample approximation (and the start that UMAP's own
  *   transform refines). It shows how far a draw wanders among its neighbours, not a re-run layout.
  */
 export interface DrawCloud {
   entity: { index: number; id: string };
-  placement: 'linear' | 'neighbours';
+  placement: 'linear' | 'transform' | 'neighbours';
   draws: number;
   /** draws × 2 map coordinates, row-major. */
   points: number[];
@@ -78,37 +82,71 @@ export function ellipseOf(points: Float64Array | Float32Array | number[]): DrawC
   return { cx, cy, rx: 2 * Math.sqrt(l1), ry: 2 * Math.sqrt(l2), angle };
 }
 
-/** Inverse-distance-weighted map position of each query row among its nearest latent rows (exact scan). */
-export function placeByNeighbours(queries: Float32Array, q: number, latent: Float32Array, n: number, d: number, coords: Float32Array, k = NEIGHBOURS): Float64Array {
-  const out = new Float64Array(q * 2);
-  const bestIndex = new Int32Array(k);
-  const bestDistance = new Float64Array(k);
-  for (let r = 0; r < q; r += 1) {
-    bestDistance.fill(Infinity);
-    bestIndex.fill(-1);
+/** The k nearest latent rows of each query row (exact scan; q is a few hundred draws), nearest first. */
+export function nearestRows(queries: Float32Array, q: number, latent: Float32Array, n: number, d: number, k: number, metric: 'euclidean' | 'cosine'): { indices: Int32Array; distances: Float32Array } {
+  const indices = new Int32Array(q * k).fill(-1);
+  const distances = new Float32Array(q * k).fill(Infinity);
+  const norms = new Float64Array(n);
+  if (metric === 'cosine') {
     for (let i = 0; i < n; i += 1) {
       let s = 0;
-      for (let c = 0; c < d; c += 1) {
-        const diff = (queries[r * d + c] as number) - (latent[i * d + c] as number);
-        s += diff * diff;
+      for (let c = 0; c < d; c += 1) s += (latent[i * d + c] as number) ** 2;
+      norms[i] = Math.sqrt(s);
+    }
+  }
+  const best = new Float64Array(k);
+  const bestIndex = new Int32Array(k);
+  for (let r = 0; r < q; r += 1) {
+    best.fill(Infinity);
+    bestIndex.fill(-1);
+    let qNorm = 0;
+    if (metric === 'cosine') for (let c = 0; c < d; c += 1) qNorm += (queries[r * d + c] as number) ** 2;
+    qNorm = Math.sqrt(qNorm);
+    for (let i = 0; i < n; i += 1) {
+      let value: number;
+      if (metric === 'cosine') {
+        let dot = 0;
+        for (let c = 0; c < d; c += 1) dot += (queries[r * d + c] as number) * (latent[i * d + c] as number);
+        value = 1 - dot / (qNorm * (norms[i] as number) || 1);
+      } else {
+        let s = 0;
+        for (let c = 0; c < d; c += 1) {
+          const diff = (queries[r * d + c] as number) - (latent[i * d + c] as number);
+          s += diff * diff;
+        }
+        value = Math.sqrt(s);
       }
-      if (s >= (bestDistance[k - 1] as number)) continue;
+      if (value >= (best[k - 1] as number)) continue;
       let at = k - 1;
-      while (at > 0 && (bestDistance[at - 1] as number) > s) {
-        bestDistance[at] = bestDistance[at - 1] as number;
+      while (at > 0 && (best[at - 1] as number) > value) {
+        best[at] = best[at - 1] as number;
         bestIndex[at] = bestIndex[at - 1] as number;
         at -= 1;
       }
-      bestDistance[at] = s;
+      best[at] = value;
       bestIndex[at] = i;
     }
+    for (let s = 0; s < k; s += 1) {
+      indices[r * k + s] = bestIndex[s] as number;
+      distances[r * k + s] = best[s] as number;
+    }
+  }
+  return { indices, distances };
+}
+
+/** Inverse-distance-weighted map position of each query row among its nearest latent rows. */
+export function placeByNeighbours(queries: Float32Array, q: number, latent: Float32Array, n: number, d: number, coords: Float32Array, k = NEIGHBOURS): Float64Array {
+  const near = nearestRows(queries, q, latent, n, d, Math.min(k, n), 'euclidean');
+  const kk = Math.min(k, n);
+  const out = new Float64Array(q * 2);
+  for (let r = 0; r < q; r += 1) {
     let wx = 0;
     let wy = 0;
     let wt = 0;
-    for (let s = 0; s < k; s += 1) {
-      const i = bestIndex[s] as number;
+    for (let s = 0; s < kk; s += 1) {
+      const i = near.indices[r * kk + s] as number;
       if (i < 0) continue;
-      const w = 1 / (Math.sqrt(bestDistance[s] as number) + 1e-9);
+      const w = 1 / ((near.distances[r * kk + s] as number) + 1e-9);
       wx += w * (coords[2 * i] as number);
       wy += w * (coords[2 * i + 1] as number);
       wt += w;
@@ -117,6 +155,17 @@ export function placeByNeighbours(queries: Float32Array, q: number, latent: Floa
     out[2 * r + 1] = wy / wt;
   }
   return out;
+}
+
+async function projectionCoords(db: Kysely<Database>, projectionId: string, n: number): Promise<Float32Array> {
+  const coords = new Float32Array(n * 2);
+  let at = 0;
+  for await (const block of readProjectionBlocks(db, projectionId, 'coords')) {
+    const floats = floatsOf(block);
+    coords.set(floats, at);
+    at += floats.length;
+  }
+  return coords;
 }
 
 export async function drawCloud(db: Kysely<Database>, projection: Projection, entityId: string): Promise<DrawCloud> {
@@ -144,15 +193,18 @@ export async function drawCloud(db: Kysely<Database>, projection: Projection, en
       points[2 * r + 1] = model.nComponents > 1 ? (scores[r * model.nComponents + 1] as number) : 0;
     }
     placement = 'linear';
+  } else if (projection.method === 'umap') {
+    const coords = await projectionCoords(db, projection.id, n);
+    const params = projection.params;
+    const nNeighbors = Math.min(typeof params.nNeighbors === 'number' ? params.nNeighbors : 15, n);
+    const metric = params.metric === 'cosine' ? 'cosine' : 'euclidean';
+    const { a, b } = curveParameters(typeof params.minDist === 'number' ? params.minDist : 0.1, typeof params.spread === 'number' ? params.spread : 1);
+    const fitEpochs = typeof params.nEpochs === 'number' ? params.nEpochs : 200;
+    const near = nearestRows(samples, draws, latent, n, d, nNeighbors - 1, metric);
+    points = transformUmap(coords, { q: draws, ...near }, { a, b, nNeighbors, nEpochs: Math.max(30, Math.round(fitEpochs / 3)), random: mulberry32((projection.seed ^ entity.idx) >>> 0) });
+    placement = 'transform';
   } else {
-    const coords = new Float32Array(n * 2);
-    let at = 0;
-    for await (const block of readProjectionBlocks(db, projection.id, 'coords')) {
-      const floats = floatsOf(block);
-      coords.set(floats, at);
-      at += floats.length;
-    }
-    points = placeByNeighbours(samples, draws, latent, n, d, coords);
+    points = placeByNeighbours(samples, draws, latent, n, d, await projectionCoords(db, projection.id, n));
     placement = 'neighbours';
   }
   return { entity: { index: entity.idx, id: entity.entity_id }, placement, draws, points: Array.from(points), ellipse: ellipseOf(points) };
