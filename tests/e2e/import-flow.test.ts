@@ -6,6 +6,9 @@ import { launchBrowser } from '../support/browser';
 import { testConfig } from '../support/config';
 import { float32Sequence, wideCsv } from '../support/uploads';
 
+
+/** Browser flows on a loaded 2-core machine take 5–15 s, and tens of seconds at worst; 30 s has proved too tight in CI. */
+const E2E_TIMEOUT_MS = 120_000;
 describe('importing in Chromium', () => {
   let browser: Awaited<ReturnType<typeof launchBrowser>>;
   let dir: string;
@@ -64,5 +67,5 @@ describe('importing in Chromium', () => {
 
     await page.getByRole('link', { name: 'Factor sets' }).click();
     await page.getByTestId('factor-sets-table').getByRole('link', { name: 'Autumn refit' }).waitFor();
-  });
+  }, E2E_TIMEOUT_MS);
 });

@@ -6,6 +6,9 @@ import { linkIn, waitForMail } from '../support/mailbox';
 
 type Browser = Awaited<ReturnType<typeof launchBrowser>>;
 
+
+/** Browser flows on a loaded 2-core machine take 5–15 s, and tens of seconds at worst; 30 s has proved too tight in CI. */
+const E2E_TIMEOUT_MS = 120_000;
 describe('in Chromium', () => {
   let browser: Browser;
   const { appUrl, demoPassword } = testConfig();
@@ -65,7 +68,7 @@ describe('in Chromium', () => {
     const row = owner.getByTestId(`member-${expertEmail}`);
     await row.waitFor();
     expect(await row.getByRole('combobox').inputValue()).toBe('expert');
-  });
+  }, E2E_TIMEOUT_MS);
 
   it('a magic link mailed to a demo account signs it in', async () => {
     const page = await (await browser.newContext()).newPage();
@@ -81,7 +84,7 @@ describe('in Chromium', () => {
     expect(await page.getByTestId('signed-in-as').textContent()).toContain('Ola Brisk');
     await page.getByRole('link', { name: /Larkspur Books/ }).click();
     expect(await page.getByTestId('workspace-role').textContent()).toBe('viewer');
-  });
+  }, E2E_TIMEOUT_MS);
 
   it('a wrong password is refused with a message, and signing out ends the session', async () => {
     const page = await (await browser.newContext()).newPage();
@@ -102,5 +105,5 @@ describe('in Chromium', () => {
     await page.waitForURL(`${appUrl}/sign-in`);
     await page.goto(`${appUrl}/workspaces`);
     await page.waitForURL(/\/sign-in/);
-  });
+  }, E2E_TIMEOUT_MS);
 });
