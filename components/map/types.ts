@@ -1,4 +1,9 @@
-import type { EntityColumn } from '@/lib/factor-sets/entity-columns';
+// Type-only imports of the server's answer types (erased from the browser bundle), so the wire
+// shapes the map reads cannot drift from what the routes send.
+import type { Annotation } from '@/lib/annotations/annotations';
+import type { EntityColumns } from '@/lib/factor-sets/entity-columns';
+import type { NeighboursAnswer } from '@/lib/factor-sets/neighbours';
+import type { DrawCloud } from '@/lib/uncertainty/draw-cloud';
 import type { ProjectionQuality } from '@/lib/projections/projections';
 
 /** What the map page hands the client: plain JSON, no Dates. */
@@ -40,29 +45,14 @@ export interface PointData {
   bytes: number;
 }
 
-export interface EntityData {
-  count: number;
-  ids: string[];
-  labels: (string | null)[] | null;
-  spread: (number | null)[] | null;
-  columns: EntityColumn[];
-}
+/** The entity-columns endpoint's answer, as the server types it. */
+export type EntityData = EntityColumns;
 
-export interface WireAnnotation {
-  id: string;
-  factorSetId: string;
-  name: string;
-  color: string;
-  description: string;
-  version: number;
-  memberCount: number;
-  sourceClusteringId: string | null;
-  createdBy: { id: string; name: string } | null;
-  createdAt: string;
-  updatedBy: { id: string; name: string } | null;
-  updatedAt: string;
-  indices?: number[];
-}
+/** A server type as JSON delivers it: Dates become ISO strings. */
+type Wire<T> = { [K in keyof T]: T[K] extends Date ? string : T[K] };
+
+/** An annotation as `?members=indices` answers it. */
+export type WireAnnotation = Wire<Annotation> & { indices?: number[] };
 
 export interface WireClustering {
   id: string;
@@ -73,17 +63,6 @@ export interface WireClustering {
   labels?: number[];
 }
 
-export interface NeighbourAnswer {
-  entity: { index: number; id: string; label: string | null };
-  metric: 'euclidean' | 'cosine';
-  items: { index: number; id: string; label: string | null; distance: number; similarity: number | null }[];
-  partner: { factorSetId: string; name: string; items: { id: string; label: string | null; affinity: number }[] } | null;
-}
+export type NeighbourAnswer = NeighboursAnswer;
 
-export interface DrawCloudAnswer {
-  entity: { index: number; id: string };
-  placement: 'linear' | 'transform' | 'neighbours';
-  draws: number;
-  points: number[];
-  ellipse: { cx: number; cy: number; rx: number; ry: number; angle: number };
-}
+export type DrawCloudAnswer = DrawCloud;
