@@ -26,14 +26,12 @@
  * Complexity: trustworthiness and continuity compute, for each point, its distance to every other
  * point in the ranking space — O(n²·d) time for the latent space (d = latent dimension), O(n²·2) for
  * the map — plus O(n log k) per point for the ranks, and O(16·n) scratch memory. At 20,000 × 64
- * that is ~2.6·10¹⁰ multiply-adds, tens of seconds on one core. For 10⁵–10⁶ points a later session
- * should estimate T and C on a seeded sample of query points (the ranks of a sampled point still
- * need its n distances, so m sampled points cost O(m·n·d); m = 5,000 gives a standard error well
- * under 10⁻³) and/or split query blocks across worker threads like exactKnnParallel; neighbour
- * preservation, Shepard ρ and stress are already O(n·k) or O(pairs).
+ * that is ~2.6·10¹⁰ multiply-adds, tens of seconds on one core. Larger sets get estimates from a
+ * seeded sample of query points (sampledRankScores: each query still ranks against all n, so m
+ * queries cost O(m·n·d)); neighbour preservation, Shepard ρ and stress are O(n·k) or O(pairs).
  */
 import type { UniformGenerator } from '../align/random';
-import { keyRows, rowNorms } from './knn-kernel.mjs';
+import { keyRows, keyRowsAt, rowNorms } from './knn-kernel.mjs';
 import { type KnnGraph, type KnnMetric, checkMatrix, exactKnn, prepareKnnRows } from './knn';
 
 /** The k of trustworthiness and continuity stored with a projection (issue 4). */
@@ -529,32 +527,148 @@ export function projectionFidelity(
 }
 
 /**
- * Trustworthiness T(k) estimated from the neighbourhoods of some query points only, for factor
- * sets too large for the exact O(n²·d) score (benchmarks; 50,000 rows and more). Each query i
- * still ranks against all n points, so its term Σ_{j ∈ U_k(i)} max(0, r(i, j) − k) is exact; the
- * estimate 1 − 2/(m·k·(2n − 3k − 1)) · Σ_{i ∈ queries} Σ_j max(0, r(i, j) − k) puts the mean of
- * the m per-point terms in place of the mean over all n. With m random queries its standard error
- * is the per-point terms' standard deviation / √m (m = 2,000: ~10⁻³ on typical maps). With every
- * point a query it equals trustworthiness(). Cost O(m·n·(d + k)).
+ * The k nearest points to point i by (key, index), i left out, sorted: ids and keys (kMax each).
+ * One pass with an early reject; most points are rejected by one comparison.
+ */
+function nearestByKey(keys: Float64Array, n: number, i: number, kMax: number, outId: Int32Array, outKey: Float64Array): void {
+  let kept = 0;
+  for (let l = 0; l < n; l++) {
+    if (l === i) continue;
+    const key = keys[l] as number;
+    if (kept === kMax && (key > (outKey[kMax - 1] as number) || (key === outKey[kMax - 1] && l > (outId[kMax - 1] as number)))) continue;
+    let p = kept === kMax ? kMax - 1 : kept++;
+    while (p > 0 && ((outKey[p - 1] as number) > key || ((outKey[p - 1] as number) === key && (outId[p - 1] as number) > l))) {
+      outKey[p] = outKey[p - 1] as number;
+      outId[p] = outId[p - 1] as number;
+      p--;
+    }
+    outKey[p] = key;
+    outId[p] = l;
+  }
+}
+
+/**
+ * Adds to sums[index] Σ_{s < ks[index]} max(0, r(neighbours[s]) − ks[index]) for one query point i,
+ * where r ranks by `keys` (another space than the one the neighbours come from):
+ * r(j) = 1 + #{l ≠ i : (key_l, l) < (key_j, j)}, counted in one pass with a binary search among
+ * the neighbours sorted by key (as rankPenalties does for the exact scores).
+ */
+function addRankPenalties(keys: Float64Array, n: number, i: number, neighbours: Int32Array, ks: readonly number[], kMax: number, scratch: RankScratch, sums: Float64Array): void {
+  const { sortedKey, sortedId, sortedPos, counts } = scratch;
+  for (let s = 0; s < kMax; s++) {
+    const id = neighbours[s] as number;
+    const key = keys[id] as number;
+    let p = s - 1;
+    while (p >= 0 && ((sortedKey[p] as number) > key || ((sortedKey[p] as number) === key && (sortedId[p] as number) > id))) {
+      sortedKey[p + 1] = sortedKey[p] as number;
+      sortedId[p + 1] = sortedId[p] as number;
+      sortedPos[p + 1] = sortedPos[p] as number;
+      p--;
+    }
+    sortedKey[p + 1] = key;
+    sortedId[p + 1] = id;
+    sortedPos[p + 1] = s;
+  }
+  counts.fill(0);
+  const lastKey = sortedKey[kMax - 1] as number;
+  const lastId = sortedId[kMax - 1] as number;
+  for (let l = 0; l < n; l++) {
+    if (l === i) continue;
+    const key = keys[l] as number;
+    if (key > lastKey || (key === lastKey && l >= lastId)) continue;
+    let lo = 0;
+    let hi = kMax - 1;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      const mk = sortedKey[mid] as number;
+      if (key < mk || (key === mk && l < (sortedId[mid] as number))) hi = mid;
+      else lo = mid + 1;
+    }
+    counts[lo] = (counts[lo] as number) + 1;
+  }
+  let preceding = 0;
+  for (let p = 0; p < kMax; p++) {
+    preceding += counts[p] as number;
+    const rank = 1 + preceding;
+    const position = sortedPos[p] as number;
+    for (let index = 0; index < ks.length; index++) {
+      const k = ks[index] as number;
+      if (position < k && rank > k) sums[index] = (sums[index] as number) + (rank - k);
+    }
+  }
+}
+
+interface RankScratch {
+  sortedKey: Float64Array;
+  sortedId: Int32Array;
+  sortedPos: Int32Array;
+  counts: Int32Array;
+}
+
+export interface SampledRankScores {
+  /** The k, aligned with the arrays below. */
+  ks: Int32Array;
+  /** Estimated T(k). */
+  trustworthiness: Float64Array;
+  /** Estimated C(k). */
+  continuity: Float64Array;
+  /** Mean share of a query's preservationK latent neighbours among its preservationK map neighbours. */
+  knnPreservation: number;
+  /** Query points used. */
+  queries: number;
+}
+
+/**
+ * Trustworthiness T(k), continuity C(k) and k-NN preservation estimated from the neighbourhoods of
+ * some query points only, for factor sets too large for the exact O(n²·d) scores (above 20,000
+ * rows). Each query i is ranked against all n points in both spaces, so its terms are exact:
+ * Σ_{j ∈ U_k(i)} max(0, r(i, j) − k) with map neighbours U and latent ranks r for T, the same with
+ * the spaces swapped for C. The estimate 1 − 2/(m·k·(2n − 3k − 1)) · Σ_{i ∈ queries} (term) puts
+ * the mean of the m per-query terms in place of the mean over all n, so with m random queries its
+ * standard error is the terms' standard deviation / √m (m = 500: ~0.005 on typical maps, a rule of
+ * thumb from the per-point spread). With every point a query it equals trustworthiness() and
+ * continuity(). Cost O(m·n·(d + log k)): one latent distance row per query, ~1.6·10¹⁰
+ * multiply-adds at 1,000,000 × 32 with m = 500.
  *
  * @param queries - distinct point indices (e.g. a seeded sample).
- * @param k - 1 ≤ k < n/2.
+ * @param ks - each 1 ≤ k < n/2.
+ * @param onProgress - fraction done after each query; throwing from it stops the computation.
  */
-export function sampledTrustworthiness(latent: Float32Array, n: number, d: number, map: Float32Array, k: number, queries: ArrayLike<number>, metric: KnnMetric = 'euclidean', mapDims = 2): number {
-  checkKs([k], n);
-  checkMatrix('trustworthiness: map', map, n, mapDims);
+export function sampledRankScores(
+  latent: Float32Array,
+  n: number,
+  d: number,
+  map: Float32Array,
+  ks: readonly number[],
+  queries: ArrayLike<number>,
+  options: { metric?: KnnMetric; mapDims?: number; preservationK?: number; onProgress?: (fraction: number) => void } = {},
+): SampledRankScores {
+  const metric = options.metric ?? 'euclidean';
+  const mapDims = options.mapDims ?? 2;
+  const preservationK = options.preservationK ?? PRESERVATION_K;
+  const kMax = Math.max(checkKs(ks, n), Math.min(preservationK, n - 1));
+  checkMatrix('fidelity: map', map, n, mapDims);
   const rows = prepareKnnRows(latent, n, d, metric);
   const norms = new Float64Array(n);
   rowNorms(rows, n, d, norms);
-  const latentKeys = new Float64Array(n);
+  // Latent keys of four queries at a time (keyRowsAt loads each point's row once for four).
+  const block = 4;
+  const blockKeys = new Float64Array(block * n);
   const mapKeys = new Float64Array(n);
-  const neighbourKey = new Float64Array(k);
-  const neighbourId = new Int32Array(k);
-  let sum = 0;
+  const mapId = new Int32Array(kMax);
+  const mapKey = new Float64Array(kMax);
+  const latentId = new Int32Array(kMax);
+  const latentKey = new Float64Array(kMax);
+  const scratch: RankScratch = { sortedKey: new Float64Array(kMax), sortedId: new Int32Array(kMax), sortedPos: new Int32Array(kMax), counts: new Int32Array(kMax + 1) };
+  const trustSums = new Float64Array(ks.length);
+  const continuitySums = new Float64Array(ks.length);
+  let kept = 0;
   const m = queries.length;
   for (let r = 0; r < m; r++) {
     const i = queries[r] as number;
-    keyRows(rows, norms, n, d, i, i + 1, latentKeys);
+    if (!Number.isInteger(i) || i < 0 || i >= n) throw new RangeError(`fidelity: query ${i} is not a point index`);
+    if (r % block === 0) keyRowsAt(rows, norms, n, d, Array.prototype.slice.call(queries, r, Math.min(m, r + block)) as number[], blockKeys);
+    const latentKeys = blockKeys.subarray((r % block) * n, (r % block + 1) * n);
     for (let l = 0; l < n; l++) {
       let s = 0;
       for (let t = 0; t < mapDims; t++) {
@@ -563,33 +677,35 @@ export function sampledTrustworthiness(latent: Float32Array, n: number, d: numbe
       }
       mapKeys[l] = s;
     }
-    // The k map neighbours by (map key, index), kept sorted by insertion.
-    let kept = 0;
-    for (let l = 0; l < n; l++) {
-      if (l === i) continue;
-      const key = mapKeys[l] as number;
-      if (kept === k && (key > (neighbourKey[k - 1] as number) || (key === neighbourKey[k - 1] && l > (neighbourId[k - 1] as number)))) continue;
-      let p = kept === k ? k - 1 : kept++;
-      while (p > 0 && ((neighbourKey[p - 1] as number) > key || ((neighbourKey[p - 1] as number) === key && (neighbourId[p - 1] as number) > l))) {
-        neighbourKey[p] = neighbourKey[p - 1] as number;
-        neighbourId[p] = neighbourId[p - 1] as number;
-        p--;
+    nearestByKey(mapKeys, n, i, kMax, mapId, mapKey);
+    nearestByKey(latentKeys, n, i, kMax, latentId, latentKey);
+    addRankPenalties(latentKeys, n, i, mapId, ks, kMax, scratch, trustSums);
+    addRankPenalties(mapKeys, n, i, latentId, ks, kMax, scratch, continuitySums);
+    for (let s = 0; s < preservationK && s < kMax; s++) {
+      const j = mapId[s] as number;
+      for (let t = 0; t < preservationK && t < kMax; t++) {
+        if (latentId[t] === j) {
+          kept++;
+          break;
+        }
       }
-      neighbourKey[p] = key;
-      neighbourId[p] = l;
     }
-    // Latent rank of each map neighbour j: 1 + #{l ≠ i : (latent key, index) < (that of j)}.
-    for (let s = 0; s < k; s++) {
-      const j = neighbourId[s] as number;
-      const kj = latentKeys[j] as number;
-      let rank = 1;
-      for (let l = 0; l < n; l++) {
-        if (l === i) continue;
-        const kl = latentKeys[l] as number;
-        if (kl < kj || (kl === kj && l < j)) rank++;
-      }
-      if (rank > k) sum += rank - k;
-    }
+    options.onProgress?.((r + 1) / m);
   }
-  return 1 - (2 * sum) / (m * k * (2 * n - 3 * k - 1));
+  const estimate = (sums: Float64Array) => Float64Array.from(ks, (k, index) => 1 - (2 * (sums[index] as number)) / (m * k * (2 * n - 3 * k - 1)));
+  return {
+    ks: Int32Array.from(ks),
+    trustworthiness: estimate(trustSums),
+    continuity: estimate(continuitySums),
+    knnPreservation: m > 0 ? kept / (m * Math.min(preservationK, kMax)) : Number.NaN,
+    queries: m,
+  };
+}
+
+/**
+ * Trustworthiness T(k) alone from some query points (sampledRankScores; the benchmark's score of
+ * layouts above 20,000 points).
+ */
+export function sampledTrustworthiness(latent: Float32Array, n: number, d: number, map: Float32Array, k: number, queries: ArrayLike<number>, metric: KnnMetric = 'euclidean', mapDims = 2): number {
+  return sampledRankScores(latent, n, d, map, [k], queries, { metric, mapDims }).trustworthiness[0] as number;
 }

@@ -411,3 +411,55 @@ export function keyRows(x, norms, n, d, q0, q1, out) {
     for (let l = 0; l < n; l++) out[o0 + l] = keyOf(norms[q], norms[l], dot(x, q * d, l * d, d));
   }
 }
+
+/**
+ * Keys from the query rows `ids` (any point indices) to every point, into out[r × n + l]; the
+ * same arithmetic as keyRows (bit-identical keys), four queries per pass over the points so that
+ * each point's row is loaded once for four dot products. For sampled fidelity scores, whose
+ * queries are scattered.
+ * @param {Float64Array} x prepared rows, n × d
+ * @param {Float64Array} norms squared norms from rowNorms
+ * @param {number} n
+ * @param {number} d
+ * @param {ArrayLike<number>} ids query point indices
+ * @param {Float64Array} out ids.length × n
+ */
+export function keyRowsAt(x, norms, n, d, ids, out) {
+  const count = ids.length;
+  let r = 0;
+  for (; r + 3 < count; r += 4) {
+    const q0 = ids[r], q1 = ids[r + 1], q2 = ids[r + 2], q3 = ids[r + 3];
+    const b0 = q0 * d, b1 = q1 * d, b2 = q2 * d, b3 = q3 * d;
+    const o0 = r * n, o1 = o0 + n, o2 = o1 + n, o3 = o2 + n;
+    const n0 = norms[q0], n1 = norms[q1], n2 = norms[q2], n3 = norms[q3];
+    for (let l = 0; l < n; l++) {
+      const lb = l * d;
+      let a0 = 0;
+      let a1 = 0;
+      let a2 = 0;
+      let a3 = 0;
+      for (let t = 0; t < d; t++) {
+        const y = x[lb + t];
+        a0 += x[b0 + t] * y;
+        a1 += x[b1 + t] * y;
+        a2 += x[b2 + t] * y;
+        a3 += x[b3 + t] * y;
+      }
+      const m = norms[l];
+      out[o0 + l] = keyOf(n0, m, a0);
+      out[o1 + l] = keyOf(n1, m, a1);
+      out[o2 + l] = keyOf(n2, m, a2);
+      out[o3 + l] = keyOf(n3, m, a3);
+    }
+    out[o0 + q0] = 0;
+    out[o1 + q1] = 0;
+    out[o2 + q2] = 0;
+    out[o3 + q3] = 0;
+  }
+  for (; r < count; r++) {
+    const q = ids[r];
+    const o0 = r * n;
+    for (let l = 0; l < n; l++) out[o0 + l] = keyOf(norms[q], norms[l], dot(x, q * d, l * d, d));
+    out[o0 + q] = 0;
+  }
+}

@@ -12,7 +12,7 @@ export interface ProjectionQuality {
   stress: number;
   explainedVariance?: number[];
   sammonStress?: number;
-  /** Set when the scores were estimated from this many sampled entities (large factor sets); continuity is then null. */
+  /** Set when T, C and kNN preservation were estimated from this many sampled entities (factor sets above 20,000 entities). */
   sampledQueries?: number;
 }
 

@@ -8,11 +8,12 @@ import { firstNeighbours } from '@/lib/projection/knn-graph';
 import { runProjection } from '@/lib/projection/methods';
 import { factorSetGraph } from './knn-cache';
 import { findProjection, type ProjectionQuality, writeProjectionBlocks } from './projections';
-import { SAMPLED_FIDELITY_MAX_ENTITIES, sampledProjectionQuality } from './sampled-fidelity';
+import { perPointFidelityFromGraph, sampledProjectionQuality } from './sampled-fidelity';
 
 /**
  * Above this many entities the exact fidelity scores (O(n²·d)) would take longer than the layout;
- * they are left out until a sampled version exists.
+ * larger sets get sampled estimates (sampled-fidelity.ts) and a per-point fidelity from the shared
+ * neighbour graph.
  */
 export const FIDELITY_MAX_ENTITIES = 20_000;
 const PROGRESS_INTERVAL_MS = 400;
@@ -68,14 +69,15 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     const nNeighbors = typeof projection.params.nNeighbors === 'number' ? projection.params.nNeighbors : 15;
     const scoreFidelity = n <= FIDELITY_MAX_ENTITIES;
     // One graph (lib/projections/knn-cache.ts) at the largest k needed: UMAP's nNeighbors − 1
-    // (it counts the point itself), the fidelity scores' 50.
-    const k = Math.min(n - 1, Math.max(projection.method === 'umap' ? nNeighbors - 1 : 0, scoreFidelity ? Math.max(...FIDELITY_KS, PRESERVATION_K) : 0));
+    // (it counts the point itself), the exact fidelity scores' 50, or the per-point fidelity's 15
+    // for larger sets.
+    const k = Math.min(n - 1, Math.max(projection.method === 'umap' ? nNeighbors - 1 : 0, scoreFidelity ? Math.max(...FIDELITY_KS, PRESERVATION_K) : PRESERVATION_K));
     report(0.02, 'neighbour graph', true);
     const cached = k >= 1 ? await factorSetGraph(db, factorSet, values, metric, k, { threads: options.threads, signal: controller.signal }) : undefined;
     const knn = cached?.graph;
     if (controller.signal.aborted) throw new Cancelled('cancelled');
 
-    const layoutShare = scoreFidelity || n <= SAMPLED_FIDELITY_MAX_ENTITIES ? 0.8 : 0.95;
+    const layoutShare = 0.8;
     const result = await runProjection({
       data: values,
       n,
@@ -107,13 +109,18 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
         ...(result.stress !== undefined ? { sammonStress: result.stress } : {}),
       };
       perPoint = scores.perPoint;
-    } else if (n <= SAMPLED_FIDELITY_MAX_ENTITIES) {
+    } else {
       report(0.05 + layoutShare, 'fidelity scores (sampled)', true);
       quality = {
-        ...sampledProjectionQuality(values, n, d, result.coordinates, metric, mulberry32(projection.seed), (share) => report(0.05 + layoutShare + (0.95 - layoutShare) * share, 'fidelity scores (sampled)')),
+        ...sampledProjectionQuality(values, n, d, result.coordinates, metric, mulberry32(projection.seed), (share) => report(0.05 + layoutShare + (0.9 - layoutShare) * share, 'fidelity scores (sampled)')),
         ...(result.explainedVarianceRatio ? { explainedVariance: result.explainedVarianceRatio } : {}),
         ...(result.stress !== undefined ? { sammonStress: result.stress } : {}),
       };
+      if (controller.signal.aborted) throw new Cancelled('cancelled');
+      if (knn) {
+        report(0.9, 'per-point fidelity', true);
+        perPoint = perPointFidelityFromGraph(knn, result.coordinates, n);
+      }
     }
     await pending;
     if (controller.signal.aborted) throw new Cancelled('cancelled');

@@ -196,4 +196,41 @@ describe('sampledTrustworthiness', () => {
     const half = Int32Array.from({ length: 200 }, (_, i) => 2 * i);
     expect(Math.abs(sampledTrustworthiness(latent, n, d, map, 15, half) - exact)).toBeLessThan(0.02);
   });
+
+  it('sampledRankScores equals the exact T, C and kNN preservation when every point is a query', async () => {
+    const { mulberry32: generator, normalGenerator: normals } = await import('@/lib/align/random');
+    const { sampledRankScores, projectionFidelity: exactAll } = await import('@/lib/projection/fidelity');
+    const normal = normals(generator(9));
+    const n = 300;
+    const d = 4;
+    const latent = Float32Array.from({ length: n * d }, () => normal());
+    const map = new Float32Array(n * 2);
+    for (let i = 0; i < n; i++) {
+      map[i * 2] = (latent[i * d] as number) + 0.7 * normal();
+      map[i * 2 + 1] = (latent[i * d + 2] as number) + 0.7 * normal();
+    }
+    const all = Int32Array.from({ length: n }, (_, i) => i);
+    const exact = exactAll(latent, n, d, map, generator(1), { metric: 'cosine' });
+    const sampled = sampledRankScores(latent, n, d, map, [5, 15, 50], all, { metric: 'cosine' });
+    for (let index = 0; index < 3; index++) {
+      expect(Math.abs((sampled.trustworthiness[index] as number) - (exact.trustworthiness[index] as number))).toBeLessThan(1e-12);
+      expect(Math.abs((sampled.continuity[index] as number) - (exact.continuity[index] as number))).toBeLessThan(1e-12);
+    }
+    expect(Math.abs(sampled.knnPreservation - exact.knnPreservation)).toBeLessThan(1e-12);
+  });
+});
+
+describe('mapKnn2d', () => {
+  it('equals the exact search on a map without tied distances', async () => {
+    const { mulberry32: generator } = await import('@/lib/align/random');
+    const { mapKnn2d } = await import('@/lib/projection/map-knn');
+    const random = generator(3);
+    const n = 2000;
+    const map = Float32Array.from({ length: n * 2 }, () => random() * 10);
+    const flat = mapKnn2d(map, n, 12);
+    const exact = exactKnn(map, n, 2, 12, 'euclidean');
+    expect(Array.from(flat.indices)).toEqual(Array.from(exact.indices));
+    expect(() => mapKnn2d(map, n, 0)).toThrow(RangeError);
+    expect(() => mapKnn2d(Float32Array.of(0, Number.NaN, 1, 1), 2, 1)).toThrow(/non-finite/);
+  });
 });

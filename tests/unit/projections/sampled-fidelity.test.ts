@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { mulberry32, normalGenerator } from '@/lib/align/random';
 import { projectionFidelity } from '@/lib/projection/fidelity';
 import { fitPca, transformPca } from '@/lib/projection/pca';
-import { sampledProjectionQuality, sampleIndices } from '@/lib/projections/sampled-fidelity';
+import { exactKnn } from '@/lib/projection/knn';
+import { perPointFidelityFromGraph, sampledProjectionQuality, sampleIndices } from '@/lib/projections/sampled-fidelity';
 
 describe('sampled fidelity scores for large factor sets', () => {
   it('sampleIndices draws distinct, sorted indices, reproducibly for a seed', () => {
@@ -26,7 +27,23 @@ describe('sampled fidelity scores for large factor sets', () => {
     expect(Math.abs((sampled.trustworthiness['15'] ?? 0) - (exact.trustworthiness[1] ?? 0))).toBeLessThan(0.02);
     expect(Math.abs((sampled.trustworthiness['50'] ?? 0) - (exact.trustworthiness[2] ?? 0))).toBeLessThan(0.02);
     expect(Math.abs(sampled.knnPreservation - exact.knnPreservation)).toBeLessThan(0.03);
-    expect(sampled.continuity['15']).toBeNull();
+    expect(Math.abs((sampled.continuity['15'] ?? 0) - (exact.continuity[1] ?? 0))).toBeLessThan(0.02);
+    expect(Math.abs((sampled.continuity['50'] ?? 0) - (exact.continuity[2] ?? 0))).toBeLessThan(0.02);
     expect(sampled.sampledQueries).toBe(500);
+  });
+
+  it('per-point fidelity from the latent graph and the map’s flatbush neighbours equals the exact one (no ties)', () => {
+    const n = 1500;
+    const d = 5;
+    const normal = normalGenerator(mulberry32(8));
+    const latent = Float32Array.from({ length: n * d }, () => normal());
+    const map = new Float32Array(n * 2);
+    for (let i = 0; i < n; i += 1) {
+      map[2 * i] = (latent[i * d] as number) + 0.3 * normal();
+      map[2 * i + 1] = (latent[i * d + 1] as number) + 0.3 * normal();
+    }
+    const exact = projectionFidelity(latent, n, d, map, mulberry32(1));
+    const fromGraph = perPointFidelityFromGraph(exactKnn(latent, n, d, 15), map, n);
+    expect(Array.from(fromGraph)).toEqual(Array.from(exact.perPoint));
   });
 });

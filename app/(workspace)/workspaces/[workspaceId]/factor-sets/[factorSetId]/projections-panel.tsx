@@ -139,9 +139,18 @@ export function ProjectionsPanel({
                     p.status
                   )}
                 </td>
-                <td className="px-3 py-2 text-right">{score(p.quality?.trustworthiness['15'])}</td>
-                <td className="px-3 py-2 text-right">{score(p.quality?.continuity['15'])}</td>
-                <td className="px-3 py-2 text-right">{score(p.quality?.knnPreservation)}</td>
+                <td className="px-3 py-2 text-right" title={p.quality?.sampledQueries ? `Estimated from ${p.quality.sampledQueries} sampled entities (standard error about 0.005)` : undefined}>
+                  {p.quality?.sampledQueries && p.quality.trustworthiness['15'] != null ? '≈ ' : ''}
+                  {score(p.quality?.trustworthiness['15'])}
+                </td>
+                <td className="px-3 py-2 text-right">
+                  {p.quality?.sampledQueries && p.quality.continuity['15'] != null ? '≈ ' : ''}
+                  {score(p.quality?.continuity['15'])}
+                </td>
+                <td className="px-3 py-2 text-right">
+                  {p.quality?.sampledQueries && Number.isFinite(p.quality.knnPreservation) ? '≈ ' : ''}
+                  {score(p.quality?.knnPreservation)}
+                </td>
                 <td className="px-3 py-2 text-right">{score(p.quality?.shepardRho)}</td>
                 <td className="px-3 py-2 text-right">{score(p.quality?.stress)}</td>
                 <td className="px-3 py-2 text-right">{p.durationMs === null ? '—' : `${(p.durationMs / 1000).toFixed(1)} s`}</td>
