@@ -5,8 +5,9 @@
  *
  *   - pca: our exact PCA (pca.ts), the scores on the first two components, and their explained
  *     variance ratios. Deterministic without randomness; the seed has no effect.
- *   - umap: our typed-array kernel of umap-js 1.4.0's algorithm (umap-kernel.ts) on our kNN graph,
- *     from a PCA start (umap.ts); umap-js itself remains the reference engine.
+ *   - umap: umap-js 1.4.0's fuzzy graph and gradients in our typed-array kernels on our kNN graph,
+ *     from a PCA start, with the batch layout on worker threads (umap.ts, umap-batch.ts); umap-js
+ *     itself remains the reference engine.
  *   - sammon: our Sammon mapping (sammon.ts), from the PCA start, final stress reported. No
  *     randomness; the seed has no effect.
  *   - tsne: druid.js 0.9.0's exact t-SNE with its seeded start (tsne.ts).
@@ -64,6 +65,8 @@ export interface ProjectionInput {
    * must have the settings' metric and k ≥ nNeighbors − 1). Computed here when absent.
    */
   knn?: KnnGraph;
+  /** Worker threads for the methods that use them (UMAP's layout); each method's default when absent. */
+  threads?: number;
 }
 
 export interface ProjectionResult {
@@ -119,7 +122,7 @@ export async function runProjection(input: ProjectionInput): Promise<ProjectionR
     }
     case 'umap': {
       const params = ready(parseProjectionParams('umap', input.params, n));
-      const coordinates = await runUmap({ data, n, d, params, seed, progress, ...(signal ? { signal } : {}), ...(input.knn ? { knn: input.knn } : {}) });
+      const coordinates = await runUmap({ data, n, d, params, seed, progress, ...(signal ? { signal } : {}), ...(input.knn ? { knn: input.knn } : {}), ...(input.threads !== undefined ? { threads: input.threads } : {}) });
       result = { coordinates, params: { ...params }, libraryVersion };
       break;
     }

@@ -30,11 +30,12 @@
  * 16 bytes per point, a few MB at 100,000 points. The result is converted to Float32 only at the
  * end (umap.ts).
  *
- * Why no worker threads: the fuzzy set costs milliseconds to a second even at 50,000 points, and
- * the SGD layout is sequential by design here (each update reads positions the previous one
- * moved); a Hogwild split across threads, as uwot and umap-learn do with several threads, would
- * make coordinates depend on thread timing and break "same input + settings + seed → identical
- * coordinates".
+ * Threads: the fuzzy set costs milliseconds to a second even at 50,000 points and runs on one
+ * thread. UmapLayout, the in-place descent, is sequential by design (each update reads positions
+ * the previous one moved); a Hogwild split across threads, as uwot and umap-learn do, would make
+ * coordinates depend on thread timing. The default layout is therefore the batch one
+ * (umap-batch.ts), which runs on worker threads and still gives the same bits for a seed;
+ * UmapLayout remains engine 'asterism', the check that our bookkeeping is umap-js's.
  *
  * The neighbour convention is umap-js's (and umap-learn's and uwot's): a point's neighbourhood of
  * size nNeighbors counts the point itself at distance 0, so nNeighbors = 15 uses the point and its

@@ -16,18 +16,22 @@
  *      simplicial_set_embedding rescales each coordinate to [0, 10]). The uniform start is still
  *      drawn first (n·2 draws from the seeded generator) and then overwritten, by both engines, so
  *      the negative samples come from the same place in the stream whichever start is chosen.
- *   3. Fuzzy graph and layout epochs (engine 'asterism', the default): our typed-array kernel
- *      (umap-kernel.ts) instead of umap-js's Map-backed sparse matrices and number[][] epochs,
- *      which missed issue 4's benchmark goal (10,000 × 32: 141 s and 652 MB against uwot's 24.5 s;
- *      50,000 × 32: 358 s and 2.66 GB against 73 s). It is umap-js's algorithm operation for
- *      operation, checked against umap-js on the same graph and start
- *      (tests/unit/projection/umap-kernel.test.ts: bit-identical with exact powers; trustworthiness
- *      within 0.005 with the fast powers it uses by default). Engine 'umap-js' runs umap-js itself,
- *      kept as that reference: its API takes number[][], so the factor rows and the kNN graph are
- *      converted at that boundary and the layout converted back to a Float32Array at the end.
+ *   3. Fuzzy graph and layout epochs: our typed-array kernel (umap-kernel.ts) instead of umap-js's
+ *      Map-backed sparse matrices and number[][] epochs, which missed issue 4's benchmark goal
+ *      (10,000 × 32: 141 s and 652 MB against uwot's 24.5 s; 50,000 × 32: 358 s and 2.66 GB
+ *      against 73 s). The fuzzy graph is umap-js's, operation for operation. The layout is, by
+ *      default (engine 'batch'), a batch descent on worker threads (umap-batch.ts): umap-js's
+ *      gradients and sampling schedule, applied once per epoch by Adam, so that it can run on both
+ *      cores and still give the same coordinates for the same seed; checked against umap-js on the
+ *      same graph and start (tests/unit/projection/umap-batch.test.ts, trustworthiness within
+ *      0.005). Engine 'asterism' is the in-place layout, umap-js's epochs on one thread
+ *      (bit-identical to umap-js with exact powers, umap-kernel.test.ts). Engine 'umap-js' runs
+ *      umap-js itself, kept as the reference: its API takes number[][], so the factor rows and the
+ *      kNN graph are converted at that boundary and the layout converted back at the end.
  *
- * Randomness: both engines draw the start and the negative samples from mulberry32(seed), so the
- * same input, settings, seed and engine give bit-identical coordinates. The engine is part of
+ * Randomness: 'asterism' and 'umap-js' draw the start and the negative samples from
+ * mulberry32(seed); 'batch' draws each vertex's negatives from a stream keyed by (seed, epoch,
+ * vertex). The same input, settings, seed and engine give bit-identical coordinates. The engine is part of
  * what reproduces a projection: UMAP_ENGINE_VERSIONS gives the string to store with it.
  *
  * Spectral start (umap-learn's default) is not offered: it needs the smallest eigenvectors of the
@@ -42,6 +46,7 @@ import type { KnnGraph } from './knn';
 import { knnGraph } from './knn-graph';
 import type { UmapParams } from './params';
 import { pcaScores } from './start-layout';
+import { UmapBatchLayout } from './umap-batch';
 import { UmapLayout, curveParameters, fuzzySimplicialSet, pruneFuzzyGraph } from './umap-kernel';
 
 /** The umap-js release this module is written against (checked against node_modules in the tests). */
@@ -66,6 +71,8 @@ export interface UmapRun {
   signal?: AbortSignal;
   /** Implementation of the fuzzy graph and layout (internal; default DEFAULT_UMAP_ENGINE). */
   engine?: UmapEngine;
+  /** Worker threads of the batch layout (umap-batch.ts; its default when absent). */
+  threads?: number;
 }
 
 /**
@@ -112,16 +119,23 @@ export function umapPcaStart(data: Float32Array, n: number, d: number, unitRows:
 
 /**
  * Which implementation runs the fuzzy graph and the layout:
- *   - 'asterism' (default): our typed-array kernel (umap-kernel.ts), which computes what umap-js
- *     1.4.0 computes, operation for operation, on flat typed arrays (see that module for why);
- *   - 'umap-js': umap-js 1.4.0 itself, kept as the reference the kernel is checked against
- *     (tests/unit/projection/umap-kernel.test.ts) and for reproducing projections stored with it.
- * Both take the same neighbour graph, start and seeded generator.
+ *   - 'batch' (default): our fuzzy graph (umap-kernel.ts) and the batch layout on worker threads
+ *     (umap-batch.ts, umap-batch-kernel.mjs): every epoch moves all points from the previous
+ *     epoch's positions by Adam, so two threads give the same coordinates as one (why: issue 4's
+ *     time goal against uwot with two threads, with reproducible coordinates);
+ *   - 'asterism': our typed-array kernel (umap-kernel.ts UmapLayout), which computes what umap-js
+ *     1.4.0 computes, operation for operation, on flat typed arrays, on one thread (the default
+ *     until the batch layout; kept for projections stored with it);
+ *   - 'umap-js': umap-js 1.4.0 itself, kept as the reference both kernels are checked against
+ *     (tests/unit/projection/umap-kernel.test.ts, umap-batch.test.ts) and for reproducing
+ *     projections stored with it.
+ * All take the same neighbour graph and start; 'asterism' and 'umap-js' draw their negative
+ * samples from one seeded generator, 'batch' from per-vertex streams keyed by the seed.
  */
-export type UmapEngine = 'asterism' | 'umap-js';
+export type UmapEngine = 'batch' | 'asterism' | 'umap-js';
 
 /** The engine runUmap uses when none is named. */
-export const DEFAULT_UMAP_ENGINE: UmapEngine = 'asterism';
+export const DEFAULT_UMAP_ENGINE: UmapEngine = 'batch';
 
 /**
  * The library string to store with a projection made by each engine (methods.ts stores one per
@@ -130,6 +144,7 @@ export const DEFAULT_UMAP_ENGINE: UmapEngine = 'asterism';
  * it has a string of its own; bump its number when its arithmetic changes.
  */
 export const UMAP_ENGINE_VERSIONS: Record<UmapEngine, string> = {
+  batch: `asterism umap-batch 1 (Adam, per-vertex streams; umap-js ${UMAP_JS_VERSION} graph and gradients)`,
   asterism: `asterism umap-kernel 1 (umap-js ${UMAP_JS_VERSION} algorithm)`,
   'umap-js': `umap-js ${UMAP_JS_VERSION}`,
 };
@@ -150,7 +165,7 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
   const { data, n, d, params, seed, progress, signal } = run;
   const { nNeighbors, metric } = params;
   const engine = run.engine ?? DEFAULT_UMAP_ENGINE;
-  if (engine !== 'asterism' && engine !== 'umap-js') throw new RangeError(`UMAP: unknown engine ${JSON.stringify(engine)}`);
+  if (engine !== 'batch' && engine !== 'asterism' && engine !== 'umap-js') throw new RangeError(`UMAP: unknown engine ${JSON.stringify(engine)}`);
   throwIfCancelled(signal);
 
   let knnShare = 0;
@@ -174,18 +189,26 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
   const setupEnd = knnShare + SHARE_SETUP;
   const nEpochs = params.nEpochs;
   const random = mulberry32(seed);
-  let step: () => void;
+  let step: () => void | Promise<unknown>;
   let result: () => Float32Array;
-  if (engine === 'asterism') {
+  let close = async (): Promise<void> => {};
+  if (engine === 'batch' || engine === 'asterism') {
     const fuzzy = pruneFuzzyGraph(fuzzySimplicialSet(graph, nNeighbors), nEpochs);
     const embedding = uniformStart(n, random);
     if (params.init === 'pca') embedding.set(umapPcaStart(data, n, d, metric === 'cosine', seed));
     const { a, b } = curveParameters(params.minDist, params.spread);
-    const layout = new UmapLayout(fuzzy, embedding, { a, b, nEpochs, random });
-    step = () => {
-      layout.step();
-    };
-    result = () => Float32Array.from(layout.embedding);
+    if (engine === 'batch') {
+      const layout = new UmapBatchLayout(fuzzy, embedding, { a, b, nEpochs, seed, ...(run.threads !== undefined ? { threads: run.threads } : {}) });
+      step = () => layout.step();
+      result = () => Float32Array.from(layout.embedding);
+      close = () => layout.close();
+    } else {
+      const layout = new UmapLayout(fuzzy, embedding, { a, b, nEpochs, random });
+      step = () => {
+        layout.step();
+      };
+      result = () => Float32Array.from(layout.embedding);
+    }
   } else {
     const umap = umapJsFit(run, graph, random);
     step = () => {
@@ -203,16 +226,20 @@ export async function runUmap(run: UmapRun): Promise<Float32Array> {
     };
   }
 
-  progress.report(setupEnd, `optimising layout, epoch 0/${nEpochs}`);
-  const epochs = progress.span(setupEnd, 1);
-  for (let epoch = 1; epoch <= nEpochs; epoch++) {
-    step();
-    if (epoch % REPORT_EVERY === 0 || epoch === nEpochs) epochs(epoch / nEpochs, `optimising layout, epoch ${epoch}/${nEpochs}`);
-    // Every epoch: setImmediate costs microseconds, an epoch of 1,000+ points milliseconds.
-    await yieldToEventLoop();
-    throwIfCancelled(signal);
+  try {
+    progress.report(setupEnd, `optimising layout, epoch 0/${nEpochs}`);
+    const epochs = progress.span(setupEnd, 1);
+    for (let epoch = 1; epoch <= nEpochs; epoch++) {
+      await step();
+      if (epoch % REPORT_EVERY === 0 || epoch === nEpochs) epochs(epoch / nEpochs, `optimising layout, epoch ${epoch}/${nEpochs}`);
+      // Every epoch: setImmediate costs microseconds, an epoch of 1,000+ points milliseconds.
+      await yieldToEventLoop();
+      throwIfCancelled(signal);
+    }
+    return result();
+  } finally {
+    await close();
   }
-  return result();
 }
 
 /** umap-js set up on our graph and start, ready for its step() (the reference engine). */

@@ -87,6 +87,7 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
       seed: projection.seed,
       knn: knn && projection.method === 'umap' ? firstNeighbours(knn, Math.min(nNeighbors - 1, knn.k)) : undefined,
       signal: controller.signal,
+      threads: options.threads,
       onProgress: (p, phase) => report(0.05 + layoutShare * p, phase),
     });
 
