@@ -101,6 +101,11 @@ export function EntityPanel(props: EntityPanelProps) {
       {neighbours && (
         <div>
           <p className="text-xs text-ink-muted">Nearest in the latent space (lines on the map). A line that runs far across the map marks a neighbour the projection tore away.</p>
+          {neighbours.source === 'approximate graph' && (
+            <p className="text-xs text-ink-muted" data-testid="neighbour-source">
+              From the approximate neighbour graph of this large set (NN-descent): about 1 in 20 true neighbours may be missing.
+            </p>
+          )}
           <ol className="tabular mt-1 flex flex-col text-xs" data-testid="neighbour-list">
             {neighbours.items.map((item) => (
               <li key={item.index} className="flex justify-between gap-2">

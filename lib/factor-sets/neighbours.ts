@@ -1,4 +1,7 @@
 import { notFound } from '@/lib/api/errors';
+import type { Kysely } from 'kysely';
+import type { Database } from '@/db/types';
+import { cachedNeighbourRow } from '@/lib/projections/knn-cache';
 import type { DbOrTx } from '@/lib/users/users';
 import { readMatrix } from './blocks';
 import { type FactorSet, findFactorSet } from './factor-sets';
@@ -17,6 +20,12 @@ export interface NeighboursAnswer {
   entity: { index: number; id: string; label: string | null };
   metric: 'euclidean' | 'cosine';
   items: NeighbourItem[];
+  /**
+   * Where the neighbours come from: the factor set's cached exact graph, its cached approximate
+   * graph (NN-descent, recall ≥ 0.95 at k = 15: a true neighbour can be missing), or an exact
+   * search of this one entity against all (when no cached graph holds k neighbours).
+   */
+  source: 'exact graph' | 'approximate graph' | 'exact search';
   /** For a factor set with a joint partner: the partner's entities with the highest γ_i·δ_j. */
   partner: { factorSetId: string; name: string; items: { id: string; label: string | null; affinity: number }[] } | null;
 }
@@ -35,6 +44,29 @@ function topK(scores: Float64Array, k: number, largest: boolean, skip: number): 
     if (best.length > k) best.pop();
   }
   return best;
+}
+
+/** Distances from row q to every row (Euclidean, or cosine distance 1 − cos θ). */
+function exactDistancesFrom(values: Float32Array, n: number, d: number, q: number, metric: 'euclidean' | 'cosine'): Float64Array {
+  const norm = (i: number) => {
+    let s = 0;
+    for (let c = 0; c < d; c += 1) s += (values[i * d + c] ?? 0) ** 2;
+    return Math.sqrt(s);
+  };
+  const qNorm = norm(q);
+  const distances = new Float64Array(n);
+  for (let i = 0; i < n; i += 1) {
+    let dot = 0;
+    let sq = 0;
+    for (let c = 0; c < d; c += 1) {
+      const a = values[q * d + c] ?? 0;
+      const b = values[i * d + c] ?? 0;
+      dot += a * b;
+      sq += (a - b) ** 2;
+    }
+    distances[i] = metric === 'cosine' ? 1 - dot / (qNorm * norm(i) || 1) : Math.sqrt(sq);
+  }
+  return distances;
 }
 
 async function entityRow(db: DbOrTx, factorSetId: string, entityId: string) {
@@ -58,11 +90,13 @@ async function labelsFor(db: DbOrTx, factorSetId: string, indices: number[]): Pr
 }
 
 /**
- * An entity's k nearest neighbours in the full latent space, by one exact pass over the matrix
- * (O(N·K) per query), so the map can show when a 2-D neighbour is not a latent one.
+ * An entity's k nearest neighbours in the full latent space, so the map can show when a 2-D
+ * neighbour is not a latent one: from the factor set's cached neighbour graph
+ * (lib/projections/knn-cache.ts, one row read) when it holds k neighbours in this metric, else by
+ * one exact pass over the matrix (O(N·K) per query).
  */
 export async function latentNeighbours(
-  db: DbOrTx,
+  db: Kysely<Database>,
   factorSet: FactorSet,
   entityId: string,
   k: number,
@@ -71,39 +105,37 @@ export async function latentNeighbours(
   const entity = await entityRow(db, factorSet.id, entityId);
   if (!entity) throw notFound(`No entity "${entityId}" in this factor set`);
   const { rows: n, dims: d } = factorSet;
-  const values = await readMatrix(db, factorSet.id, 'values', n, d);
   const q = entity.idx;
-  const norm = (i: number) => {
-    let s = 0;
-    for (let c = 0; c < d; c += 1) s += (values[i * d + c] ?? 0) ** 2;
-    return Math.sqrt(s);
-  };
-  const qNorm = norm(q);
-  const distances = new Float64Array(n);
-  for (let i = 0; i < n; i += 1) {
-    let dot = 0;
-    let sq = 0;
-    for (let c = 0; c < d; c += 1) {
-      const a = values[q * d + c] ?? 0;
-      const b = values[i * d + c] ?? 0;
-      dot += a * b;
-      sq += (a - b) ** 2;
-    }
-    distances[i] = metric === 'cosine' ? 1 - dot / (qNorm * norm(i) || 1) : Math.sqrt(sq);
+  const wanted = Math.min(k, n - 1);
+  const partnerSet = factorSet.jointPartnerId ? await findFactorSet(db, factorSet.jointPartnerId) : undefined;
+  const withPartner = partnerSet !== undefined && partnerSet.dims === d;
+  const cached = await cachedNeighbourRow(db, factorSet, q, metric, wanted);
+  // The whole matrix only when a search or the partner's affinities need it.
+  const values = cached && !withPartner ? undefined : await readMatrix(db, factorSet.id, 'values', n, d);
+  let nearest: number[];
+  let distanceOf: (i: number) => number;
+  if (cached) {
+    nearest = Array.from(cached.indices);
+    const byIndex = new Map(nearest.map((i, s) => [i, cached.distances[s] ?? Number.NaN]));
+    distanceOf = (i) => byIndex.get(i) ?? Number.NaN;
+  } else {
+    if (!values) throw new Error('neighbours: the factor matrix was not read');
+    const distances = exactDistancesFrom(values, n, d, q, metric);
+    nearest = topK(distances, wanted, false, q);
+    distanceOf = (i) => distances[i] ?? Number.NaN;
   }
-  const nearest = topK(distances, Math.min(k, n - 1), false, q);
   const names = await labelsFor(db, factorSet.id, nearest);
   const items = nearest.map((i) => ({
     index: i,
     id: names.get(i)?.id ?? String(i),
     label: names.get(i)?.label ?? null,
-    distance: distances[i] ?? Number.NaN,
-    similarity: metric === 'cosine' ? 1 - (distances[i] ?? Number.NaN) : null,
+    distance: distanceOf(i),
+    similarity: metric === 'cosine' ? 1 - distanceOf(i) : null,
   }));
+  const source: NeighboursAnswer['source'] = cached ? (cached.exact ? 'exact graph' : 'approximate graph') : 'exact search';
 
   let partner: NeighboursAnswer['partner'] = null;
-  const partnerSet = factorSet.jointPartnerId ? await findFactorSet(db, factorSet.jointPartnerId) : undefined;
-  if (partnerSet && partnerSet.dims === d) {
+  if (withPartner && values) {
     const other = await readMatrix(db, partnerSet.id, 'values', partnerSet.rows, d);
     const affinity = new Float64Array(partnerSet.rows);
     for (let j = 0; j < partnerSet.rows; j += 1) {
@@ -119,5 +151,5 @@ export async function latentNeighbours(
       items: top.map((j) => ({ id: partnerNames.get(j)?.id ?? String(j), label: partnerNames.get(j)?.label ?? null, affinity: affinity[j] ?? Number.NaN })),
     };
   }
-  return { entity: { index: entity.idx, id: entity.entity_id, label: entity.label }, metric, items, partner };
+  return { entity: { index: entity.idx, id: entity.entity_id, label: entity.label }, metric, source, items, partner };
 }

@@ -22,7 +22,7 @@
  * Concurrency: two jobs that miss at once both compute the same graph (same input, same seed, so
  * the same bytes), and the second upsert overwrites the first harmlessly.
  */
-import type { Kysely } from 'kysely';
+import { type Kysely, sql } from 'kysely';
 import type { Database } from '@/db/types';
 import { mulberry32 } from '@/lib/align/random';
 import type { KnnGraph, KnnMetric } from '@/lib/projection/knn';
@@ -145,4 +145,41 @@ export async function factorSetGraph(
       .execute();
   }
   return { graph: firstNeighbours(chosen.graph, k), exact: chosen.exact, hit: false, method };
+}
+
+/** One entity's row of a cached graph (the map's neighbour queries). */
+export interface CachedNeighbourRow {
+  indices: Int32Array;
+  distances: Float32Array;
+  exact: boolean;
+  method: string;
+}
+
+/**
+ * The first k neighbours of entity `index` from the cached graph of `metric`, when a valid one
+ * (input checksum matches) holds at least k neighbours; otherwise undefined (the caller searches).
+ * Only that row's bytes leave the database (substring of the bytea), so a query of a
+ * 1,000,000-entity set reads k·8 bytes, not the graph.
+ */
+export async function cachedNeighbourRow(db: Kysely<Database>, factorSet: FactorSetForGraph, index: number, metric: KnnMetric, k: number): Promise<CachedNeighbourRow | undefined> {
+  if (!Number.isInteger(index) || index < 0 || index >= factorSet.rows) throw new RangeError(`neighbour graph: entity index ${index} is out of range`);
+  const row = await db
+    .selectFrom('knn_graphs')
+    .select((eb) => [
+      'k',
+      'n',
+      'exact',
+      'method',
+      'input_checksum',
+      sql<Buffer>`substring(${eb.ref('indices')} from ${sql.lit(1)} + ${eb.ref('k')} * 4 * ${index} for 4 * ${k})`.as('row_indices'),
+      sql<Buffer>`substring(${eb.ref('distances')} from ${sql.lit(1)} + ${eb.ref('k')} * 4 * ${index} for 4 * ${k})`.as('row_distances'),
+    ])
+    .where('factor_set_id', '=', factorSet.id)
+    .where('metric', '=', metric)
+    .executeTakeFirst();
+  if (!row || row.input_checksum !== factorSet.checksumSha256 || row.n !== factorSet.rows || row.k < k) return undefined;
+  const indices = intsOf(row.row_indices);
+  const distances = floatsOfBytes(row.row_distances);
+  if (indices.length !== k || distances.length !== k) return undefined;
+  return { indices, distances, exact: row.exact, method: row.method };
 }

@@ -60,4 +60,24 @@ describe('the cached neighbour graph', () => {
     expect(cosine.status, cosine.error ?? '').toBe('done');
     expect((await graphs()).map((g) => g.metric).sort()).toEqual(['cosine', 'euclidean']);
   }, 180_000);
+
+  it('answers the map’s neighbour queries from the cached graph, with the same neighbours as the exact search', async () => {
+    type Answer = { source: string; items: { id: string; distance: number }[] };
+    const ask = () => api<Answer>('GET', `/api/factor-sets/${factorSetId}/neighbors?entity=q7&k=12`, { token: f.members.viewer.token });
+    const fromGraph = await ask();
+    expect(fromGraph.status).toBe(200);
+    expect(fromGraph.body.source).toBe('exact graph');
+    // Without the graph the same query searches exactly.
+    const saved = await testDb().selectFrom('knn_graphs').selectAll().where('factor_set_id', '=', factorSetId).where('metric', '=', 'euclidean').executeTakeFirstOrThrow();
+    await testDb().deleteFrom('knn_graphs').where('factor_set_id', '=', factorSetId).where('metric', '=', 'euclidean').execute();
+    const searched = await ask();
+    await testDb().insertInto('knn_graphs').values(saved).execute();
+    expect(searched.body.source).toBe('exact search');
+    expect(fromGraph.body.items.map((item) => item.id)).toEqual(searched.body.items.map((item) => item.id));
+    fromGraph.body.items.forEach((item, s) => expect(item.distance).toBeCloseTo(searched.body.items[s]?.distance ?? Number.NaN, 5));
+    // More neighbours than the graph holds (50 at this size): an exact search.
+    const many = await api<Answer>('GET', `/api/factor-sets/${factorSetId}/neighbors?entity=q7&k=80`, { token: f.members.viewer.token });
+    expect(many.body.source).toBe('exact search');
+    expect(many.body.items).toHaveLength(80);
+  }, 60_000);
 });
