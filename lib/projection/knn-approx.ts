@@ -23,11 +23,14 @@
  * rows, the seeded generator of lib/align/random.ts, worker threads, cancellation, and the same
  * output as the exact search (KnnGraph, with order and distances computed as knn.ts computes them).
  *
- * Threads: the trees are built on worker threads (knn-descent-worker.mjs) and the local join of
- * each block of JOIN_BLOCK points is split across them; the joins only read the heaps and return
- * proposed updates, which the calling thread applies in point order before the next block. So the
- * result is the same for any number of threads, and the heaps need no locks. (pynndescent
- * parallelises its joins the same way.)
+ * Threads: the trees are built on worker threads (knn-descent-worker.mjs), which also compute the
+ * distances of the pairs inside their leaves; the calling thread offers those pairs to the heaps
+ * tree after tree. Each iteration's candidate lists are built by point range on the workers (the
+ * sampling priorities are hashes of (iteration seed, point, neighbour), so any thread can compute
+ * any of them), and the local join of each block of JOIN_BLOCK points is split across them; the
+ * joins only read the heaps and return proposed updates, which the calling thread applies in point
+ * order before the next block. So the result is the same for any number of threads, and the heaps
+ * need no locks. (pynndescent parallelises its joins the same way.)
  *
  * Arithmetic: the search compares squared Euclidean distances Σ(x_t − y_t)² of the Float32 rows,
  * accumulated in Float64 (for cosine, of the rows scaled to unit length: ‖u − v‖²/2 = 1 − cos θ),
@@ -40,12 +43,13 @@
  * Determinism: all randomness comes from the generator passed in, in a fixed order; nothing depends
  * on timing or on the thread count: the same rows, settings and seed give the same graph.
  *
- * Accuracy and speed (scripts/bench-projection.ts, k = 15, two threads on a shared two-core
- * machine; seeded mixtures of 20 Gaussian clusters, the hardest kind of data for any neighbour
- * search since each cluster fills all 32 dimensions):
- *   10,000 × 32: recall 0.995 in 3.1 s; pynndescent 0.5.8 (defaults, n_jobs 2): 0.988 in 1.6 s.
- *   50,000 × 32: recall 0.962 in 13 s;  pynndescent: 0.939 in 6.9 s; exact search 56 s.
- * So about half pynndescent's speed (numba-compiled) at higher recall. Real factor sets, whose
+ * Accuracy and speed (scripts/bench-projection.ts, k = 15, two threads, on an otherwise idle
+ * two-core machine; seeded mixtures of 20 Gaussian clusters, the hardest kind of data for any
+ * neighbour search since each cluster fills all 32 dimensions):
+ *   10,000 × 32: recall 0.995 in 0.5–0.7 s; pynndescent 0.5.8 (warm, n_jobs 2): 0.988 in 0.33 s.
+ *   50,000 × 32: recall 0.963 in 2.6 s;     pynndescent: 0.939 in 2.2 s; exact search 11.3 s.
+ * So about 1.2× pynndescent's time (numba-compiled) at 50,000 points, at higher recall; at 10,000
+ * starting the worker threads and compiling their code is a large share. Real factor sets, whose
  * variance falls off over the dimensions, give higher recall.
  *
  * Cost: the trees O(nTrees · n log(n/leafSize) · d) plus O(nTrees · n · leafSize · d) for the
@@ -57,7 +61,7 @@
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import type { UniformGenerator } from '../align/random';
-import { Updates, applyUpdates, buildCandidates, fillRandom, joinLeaves, localJoin, mulberry32, splitTree, type RpTree } from './knn-descent-kernel.mjs';
+import { HeapMarks, Updates, applyUpdates, buildCandidates, fillRandom, leafPairs, localJoin, markSampled, mulberry32, splitTree, type RpTree } from './knn-descent-kernel.mjs';
 import { finishHeaps, pairKey, rowNorms } from './knn-kernel.mjs';
 import { type KnnGraph, type KnnMetric, checkMatrix, metricCode, prepareKnnRows } from './knn';
 
@@ -208,10 +212,18 @@ function finish(heapIds: Int32Array, original: Int32Array, prepared: Float64Arra
   return { n, k, metric, indices, distances };
 }
 
+/** The pairs inside one tree's leaves with their squared distances (leafPairs). */
+interface LeafPairs {
+  count: number;
+  p: Int32Array;
+  q: Int32Array;
+  key: Float32Array;
+}
+
 interface WorkerReply {
   ok: boolean;
   message?: string;
-  trees?: RpTree[];
+  pairs?: LeafPairs[];
   count?: number;
   p?: Int32Array;
   q?: Int32Array;
@@ -331,44 +343,72 @@ export async function approxKnn(
   }
   const keys = new Float32Array(buffer(n * K * 4)).fill(Infinity);
   const ids = new Int32Array(buffer(n * K * 4)).fill(-1);
-  const fresh = new Uint8Array(n * K);
+  const fresh = new Uint8Array(buffer(n * K));
   const newIds = new Int32Array(buffer(n * C * 4));
   const oldIds = new Int32Array(buffer(n * C * 4));
-  const newPri = new Float32Array(n * C);
-  const oldPri = new Float32Array(n * C);
-  const stamp = new Int32Array(n);
+  const newPri = new Float32Array(buffer(n * C * 4));
+  const oldPri = new Float32Array(buffer(n * C * 4));
   const record: ApproxKnnStats = { trees: 0, iterations: 0, updates: [], distanceEvaluations: 0 };
 
-  const pool = parallel ? await DescentPool.start(threads, { rows: x.buffer, n, d, keys: keys.buffer, ids: ids.buffer, K, newIds: newIds.buffer, oldIds: oldIds.buffer, C }) : undefined;
+  const pool = parallel ? await DescentPool.start(threads, { rows: x.buffer, n, d, keys: keys.buffer, ids: ids.buffer, K, fresh: fresh.buffer, newIds: newIds.buffer, oldIds: oldIds.buffer, newPri: newPri.buffer, oldPri: oldPri.buffer, C }) : undefined;
   const pause = async () => {
     await new Promise<void>((resolve) => setImmediate(resolve));
     signal?.throwIfAborted();
   };
   try {
-    // Trees: built on the workers when there are any, leaves joined here in tree order.
-    const trees: RpTree[] = firstTree ? [firstTree] : [];
-    const rest = treeSeeds.slice(1);
+    // Trees: built, and their leaves' pair distances computed, on the workers when there are any
+    // (the first tree's here meanwhile); the pairs are offered to the heaps here in tree order.
+    // One tree per request, each worker's in a chain, so that only a few trees' pair lists
+    // (12 bytes per pair, ~n · leafSize / 2 pairs per tree) exist at once.
+    const fromWorkers: (Promise<LeafPairs> | undefined)[] = [];
     if (pool) {
-      const bySlot = Array.from({ length: pool.size }, (_, slot) => rest.filter((_, t) => t % pool.size === slot));
-      const replies = await Promise.all(bySlot.map((seeds, slot) => pool.request(slot, { type: 'trees', seeds, leafSize })));
-      for (let t = 0; t < rest.length; t++) {
-        const tree = replies[t % pool.size]?.trees?.[Math.floor(t / pool.size)];
-        if (tree === undefined) throw new Error('approximate neighbour search: a worker returned too few trees');
-        trees.push(tree);
+      const chains = Array.from({ length: pool.size }, () => Promise.resolve());
+      for (let t = 1; t < nTrees; t++) {
+        const slot = (t - 1) % pool.size;
+        const pairs = (chains[slot] as Promise<unknown>).then(() => pool.request(slot, { type: 'trees', seeds: [treeSeeds[t]], leafSize })).then((reply) => {
+          const list = reply.pairs?.[0];
+          if (list === undefined) throw new Error('approximate neighbour search: a worker returned no tree');
+          return list;
+        });
+        // Handled here too: a later tree's failure after an earlier one's must not go unhandled.
+        pairs.catch(() => undefined);
+        chains[slot] = pairs.then(() => undefined, () => undefined);
+        fromWorkers[t] = pairs;
       }
     }
-    for (let t = 0; t < nTrees; t++) {
-      const tree = trees[t] ?? splitTree(x, n, d, leafSize, mulberry32(treeSeeds[t] as number));
-      record.distanceEvaluations += joinLeaves(x, d, keys, ids, fresh, K, tree.order, tree.leafBounds);
+    const offer = async (pairs: LeafPairs, t: number) => {
+      record.distanceEvaluations += pairs.count;
+      applyUpdates(keys, ids, fresh, K, pairs.p, pairs.q, pairs.key, pairs.count);
       record.trees++;
       report?.((0.2 * (t + 1)) / nTrees, `neighbour graph: tree ${t + 1}/${nTrees}`);
       await pause();
+    };
+    if (firstTree) await offer(leafPairs(x, d, firstTree.order, firstTree.leafBounds), 0);
+    for (let t = 1; t < nTrees; t++) {
+      const built = fromWorkers[t];
+      if (built) {
+        await offer(await built, t);
+      } else {
+        const tree = splitTree(x, n, d, leafSize, mulberry32(treeSeeds[t] as number));
+        await offer(leafPairs(x, d, tree.order, tree.leafBounds), t);
+      }
     }
     record.distanceEvaluations += fillRandom(x, n, d, keys, ids, fresh, K, random);
 
     const local = new Updates();
+    const marks = pool ? undefined : new HeapMarks(n);
+    // The candidate lists by point range: every list is built before any fresh flag is cleared.
+    const ranges = pool ? Array.from({ length: pool.size }, (_, slot) => [Math.floor((slot * n) / pool.size), Math.floor(((slot + 1) * n) / pool.size)] as const) : [];
     for (let iteration = 1; iteration <= settings.maxIterations; iteration++) {
-      buildCandidates(ids, fresh, n, K, C, random, newIds, newPri, oldIds, oldPri, stamp);
+      const seed = Math.floor(random() * 4294967296) | 0;
+      if (pool) {
+        await Promise.all(ranges.map(([from, to], slot) => pool.request(slot, { type: 'candidates', from, to, seed })));
+        await Promise.all(ranges.map(([from, to], slot) => pool.request(slot, { type: 'sample', from, to })));
+      } else {
+        if (!marks) throw new Error('approximate neighbour search: no heap marks on the calling thread');
+        buildCandidates(ids, fresh, n, K, C, seed, newIds, newPri, oldIds, oldPri, 0, n);
+        markSampled(ids, fresh, K, C, newIds, 0, n, marks);
+      }
       let changed = 0;
       for (let b0 = 0; b0 < n; b0 += JOIN_BLOCK) {
         const b1 = Math.min(n, b0 + JOIN_BLOCK);
@@ -384,7 +424,8 @@ export async function approxKnn(
           }
         } else {
           local.count = 0;
-          record.distanceEvaluations += localJoin(x, d, keys, ids, K, newIds, oldIds, C, b0, b1, local);
+          if (!marks) throw new Error('approximate neighbour search: no heap marks on the calling thread');
+          record.distanceEvaluations += localJoin(x, d, keys, ids, K, newIds, oldIds, C, b0, b1, local, marks);
           changed += applyUpdates(keys, ids, fresh, K, local.p, local.q, local.key, local.count);
         }
         signal?.throwIfAborted();

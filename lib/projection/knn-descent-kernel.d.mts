@@ -9,21 +9,24 @@ export interface RpTree {
   leafBounds: Int32Array;
 }
 export declare function splitTree(x: Float32Array, n: number, d: number, leafSize: number, random: () => number): RpTree;
-export declare function joinLeaves(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, order: Int32Array, leafBounds: Int32Array): number;
+export declare function leafPairs(x: Float32Array, d: number, order: Int32Array, leafBounds: Int32Array): { count: number; p: Int32Array; q: Int32Array; key: Float32Array };
 export declare function fillRandom(x: Float32Array, n: number, d: number, keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, random: () => number): number;
+export declare function candidatePriority(seed: number, i: number, j: number): number;
 export declare function buildCandidates(
   ids: Int32Array,
   fresh: Uint8Array,
   n: number,
   K: number,
   C: number,
-  random: () => number,
+  seed: number,
   newIds: Int32Array,
   newPri: Float32Array,
   oldIds: Int32Array,
   oldPri: Float32Array,
-  stamp: Int32Array,
+  from: number,
+  to: number,
 ): void;
+export declare function markSampled(ids: Int32Array, fresh: Uint8Array, K: number, C: number, newIds: Int32Array, from: number, to: number, marks: HeapMarks): void;
 export declare class Updates {
   constructor(capacity?: number);
   count: number;
@@ -32,5 +35,11 @@ export declare class Updates {
   key: Float32Array;
   add(p: number, q: number, key: number): void;
 }
-export declare function localJoin(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, K: number, newIds: Int32Array, oldIds: Int32Array, C: number, i0: number, i1: number, out: Updates): number;
+export declare class HeapMarks {
+  constructor(n: number);
+  stamp: Int32Array;
+  value: number;
+  mark(ids: Int32Array, base: number, K: number): number;
+}
+export declare function localJoin(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, K: number, newIds: Int32Array, oldIds: Int32Array, C: number, i0: number, i1: number, out: Updates, marks: HeapMarks): number;
 export declare function applyUpdates(keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, p: Int32Array, q: Int32Array, key: Float32Array, count: number): number;

@@ -211,35 +211,41 @@ export function splitTree(x, n, d, leafSize, random) {
 }
 
 /**
- * Compares all pairs inside each leaf of a tree and offers them to both heaps (live thresholds).
+ * Every pair inside each leaf of a tree with its squared distance, in leaf order: the tree's
+ * contribution to the start, computed where the tree is built (a worker thread) and offered to the
+ * heaps by applyUpdates on the calling thread, tree after tree. Offering the full list gives the
+ * same heaps as comparing against live thresholds would (a pair enters a heap only if its key
+ * beats that heap's worst), and the distances run in parallel with the other trees.
  * @param {Float32Array} x
  * @param {number} d
- * @param {Float32Array} keys
- * @param {Int32Array} ids
- * @param {Uint8Array} fresh
- * @param {number} K
  * @param {Int32Array} order
  * @param {Int32Array} leafBounds
- * @returns {number} distances computed
+ * @returns {{ count: number, p: Int32Array, q: Int32Array, key: Float32Array }}
  */
-export function joinLeaves(x, d, keys, ids, fresh, K, order, leafBounds) {
-  let evaluations = 0;
+export function leafPairs(x, d, order, leafBounds) {
+  let count = 0;
+  for (let leaf = 0; leaf + 1 < leafBounds.length; leaf++) {
+    const size = leafBounds[leaf + 1] - leafBounds[leaf];
+    count += (size * (size - 1)) / 2;
+  }
+  const p = new Int32Array(count);
+  const q = new Int32Array(count);
+  const key = new Float32Array(count);
+  let at = 0;
   for (let leaf = 0; leaf + 1 < leafBounds.length; leaf++) {
     const end = leafBounds[leaf + 1];
     for (let a = leafBounds[leaf]; a < end; a++) {
-      const p = order[a];
+      const u = order[a];
       for (let b = a + 1; b < end; b++) {
-        const q = order[b];
-        const worstP = keys[p * K];
-        const worstQ = keys[q * K];
-        const key = boundedSquaredDistance(x, p * d, q * d, d, worstP > worstQ ? worstP : worstQ);
-        evaluations++;
-        if (key < worstP) heapPush(keys, ids, fresh, K, p, key, q);
-        if (key < worstQ) heapPush(keys, ids, fresh, K, q, key, p);
+        const v = order[b];
+        p[at] = u;
+        q[at] = v;
+        key[at] = squaredDistance(x, u * d, v * d, d);
+        at++;
       }
     }
   }
-  return evaluations;
+  return { count, p, q, key };
 }
 
 /**
@@ -307,51 +313,93 @@ function candidatePush(cIds, cPri, C, i, priority, j) {
 }
 
 /**
- * The candidate lists of one iteration: each heap entry in both directions (the reverse
- * neighbours), fresh ones into new*, the others into old*; then each sampled fresh entry is
- * flagged used (it will have met every candidate of this round).
+ * The 32-bit finaliser of MurmurHash3 (a bijection that spreads every input bit over the output).
+ * @param {number} h
+ */
+function fmix32(h) {
+  h ^= h >>> 16;
+  h = Math.imul(h, 0x85ebca6b);
+  h ^= h >>> 13;
+  h = Math.imul(h, 0xc2b2ae35);
+  h ^= h >>> 16;
+  return h;
+}
+
+/**
+ * The random priority of heap entry i → j in one iteration's candidate sampling, in (0, 1): a hash
+ * of (seed, i, j) rather than the next draw of a generator, so that any thread can compute any
+ * entry's priority and the lists do not depend on how the points are split across threads.
+ * @param {number} seed
+ * @param {number} i
+ * @param {number} j
+ */
+export function candidatePriority(seed, i, j) {
+  return ((fmix32((fmix32(seed ^ i) + j) | 0) >>> 0) + 0.5) / 4294967296;
+}
+
+/**
+ * The candidate lists of one iteration for the points [from, to): each heap entry i → j is offered
+ * in both directions (j is a candidate of i, i of j: the reverse neighbours), fresh entries into
+ * new*, the others into old*, each list keeping the C entries of smallest priority (a uniform
+ * sample). Every thread scans all heap entries in the same order and fills only its own points'
+ * lists, so the lists are the same for any split.
  * @param {Int32Array} ids
  * @param {Uint8Array} fresh
  * @param {number} n
  * @param {number} K
  * @param {number} C
- * @param {() => number} random
+ * @param {number} seed this iteration's (candidatePriority)
  * @param {Int32Array} newIds n × C
  * @param {Float32Array} newPri n × C
  * @param {Int32Array} oldIds n × C
  * @param {Float32Array} oldPri n × C
- * @param {Int32Array} stamp n scratch
+ * @param {number} from
+ * @param {number} to
  */
-export function buildCandidates(ids, fresh, n, K, C, random, newIds, newPri, oldIds, oldPri, stamp) {
-  newIds.fill(-1);
-  oldIds.fill(-1);
-  newPri.fill(Infinity);
-  oldPri.fill(Infinity);
+export function buildCandidates(ids, fresh, n, K, C, seed, newIds, newPri, oldIds, oldPri, from, to) {
+  newIds.fill(-1, from * C, to * C);
+  oldIds.fill(-1, from * C, to * C);
+  newPri.fill(Infinity, from * C, to * C);
+  oldPri.fill(Infinity, from * C, to * C);
   for (let i = 0; i < n; i++) {
     const base = i * K;
+    const ownI = i >= from && i < to;
     for (let s = 0; s < K; s++) {
       const j = ids[base + s];
       if (j < 0) continue;
-      const priority = random();
+      const ownJ = j >= from && j < to;
+      if (!ownI && !ownJ) continue;
+      const priority = candidatePriority(seed, i, j);
       if (fresh[base + s] === 1) {
-        candidatePush(newIds, newPri, C, i, priority, j);
-        candidatePush(newIds, newPri, C, j, priority, i);
+        if (ownI) candidatePush(newIds, newPri, C, i, priority, j);
+        if (ownJ) candidatePush(newIds, newPri, C, j, priority, i);
       } else {
-        candidatePush(oldIds, oldPri, C, i, priority, j);
-        candidatePush(oldIds, oldPri, C, j, priority, i);
+        if (ownI) candidatePush(oldIds, oldPri, C, i, priority, j);
+        if (ownJ) candidatePush(oldIds, oldPri, C, j, priority, i);
       }
     }
   }
-  // stamp[j] = i + 1 marks j as sampled for point i: O(C + K) per point.
-  stamp.fill(0);
-  for (let i = 0; i < n; i++) {
+}
+
+/**
+ * After every point's lists are built (buildCandidates on all ranges): flags the fresh heap
+ * entries of points [from, to) that were sampled into their own new list as used (they will have
+ * met every candidate of this round).
+ * @param {Int32Array} ids
+ * @param {Uint8Array} fresh
+ * @param {number} K
+ * @param {number} C
+ * @param {Int32Array} newIds
+ * @param {number} from
+ * @param {number} to
+ * @param {HeapMarks} marks this thread's
+ */
+export function markSampled(ids, fresh, K, C, newIds, from, to, marks) {
+  const stamp = marks.stamp;
+  for (let i = from; i < to; i++) {
     const base = i * K;
-    const cBase = i * C;
-    for (let c = 0; c < C; c++) {
-      const j = newIds[cBase + c];
-      if (j >= 0) stamp[j] = i + 1;
-    }
-    for (let s = 0; s < K; s++) if (fresh[base + s] === 1 && stamp[ids[base + s]] === i + 1) fresh[base + s] = 0;
+    const sampled = marks.mark(newIds, i * C, C);
+    for (let s = 0; s < K; s++) if (fresh[base + s] === 1 && stamp[ids[base + s]] === sampled) fresh[base + s] = 0;
   }
 }
 
@@ -393,20 +441,41 @@ export class Updates {
 }
 
 /**
- * Whether q is among the heap entries of the point whose heap starts at base. A pair already in
- * p's heap needs no distance: it was offered to both heaps when it entered p's (every push but
- * fillRandom's offers both ways), and since a heap's worst key only falls, q's heap would refuse p
- * again. The scan reads p's heap row, which stays in cache across the inner loop, so it costs a
- * fraction of a distance; on 32-D data it skips a third or more of the pairs (measured here).
- * @param {Int32Array} ids
- * @param {number} base
- * @param {number} K
- * @param {number} q
- * @returns {boolean}
+ * Marks of heap membership for the local join: stamp[q] === value means q is in the heap of the
+ * point being joined. A pair already in p's heap needs no distance: it was offered to both heaps
+ * when it entered p's (every push but fillRandom's offers both ways), and since a heap's worst key
+ * only falls, q's heap would refuse p again; on 32-D data that skips a third or more of the pairs
+ * (measured here). Marking p's K entries once and testing each candidate in O(1) replaced a scan
+ * of p's heap per candidate pair (K compares each), which cost more than the distances it saved
+ * (10,000 × 32: the join's own time fell from ~0.24 s to ~0.1 s; scripts/bench-projection.ts).
+ * One per thread; `value` only grows, and the stamps are cleared when it would overflow.
  */
-function inHeap(ids, base, K, q) {
-  for (let s = 0; s < K; s++) if (ids[base + s] === q) return true;
-  return false;
+export class HeapMarks {
+  /** @param {number} n */
+  constructor(n) {
+    this.stamp = new Int32Array(n);
+    this.value = 0;
+  }
+
+  /**
+   * Marks the K indices at ids[base …] (−1 skipped) and returns the mark.
+   * @param {Int32Array} ids
+   * @param {number} base
+   * @param {number} K
+   */
+  mark(ids, base, K) {
+    if (this.value === 0x7fffffff) {
+      this.stamp.fill(0);
+      this.value = 0;
+    }
+    const value = ++this.value;
+    const stamp = this.stamp;
+    for (let s = 0; s < K; s++) {
+      const j = ids[base + s];
+      if (j >= 0) stamp[j] = value;
+    }
+    return value;
+  }
 }
 
 /**
@@ -425,10 +494,12 @@ function inHeap(ids, base, K, q) {
  * @param {number} i0
  * @param {number} i1
  * @param {Updates} out
+ * @param {HeapMarks} marks this thread's
  * @returns {number} distances computed
  */
-export function localJoin(x, d, keys, ids, K, newIds, oldIds, C, i0, i1, out) {
+export function localJoin(x, d, keys, ids, K, newIds, oldIds, C, i0, i1, out, marks) {
   let evaluations = 0;
+  const stamp = marks.stamp;
   for (let i = i0; i < i1; i++) {
     const cBase = i * C;
     for (let a = 0; a < C; a++) {
@@ -437,9 +508,10 @@ export function localJoin(x, d, keys, ids, K, newIds, oldIds, C, i0, i1, out) {
       const pRow = p * d;
       const pBase = p * K;
       const worstP = keys[pBase];
+      const inP = marks.mark(ids, pBase, K);
       for (let b = a + 1; b < C; b++) {
         const q = newIds[cBase + b];
-        if (q < 0 || inHeap(ids, pBase, K, q)) continue;
+        if (q < 0 || stamp[q] === inP) continue;
         const worstQ = keys[q * K];
         const key = boundedSquaredDistance(x, pRow, q * d, d, worstP > worstQ ? worstP : worstQ);
         evaluations++;
@@ -447,7 +519,7 @@ export function localJoin(x, d, keys, ids, K, newIds, oldIds, C, i0, i1, out) {
       }
       for (let b = 0; b < C; b++) {
         const q = oldIds[cBase + b];
-        if (q < 0 || q === p || inHeap(ids, pBase, K, q)) continue;
+        if (q < 0 || q === p || stamp[q] === inP) continue;
         const worstQ = keys[q * K];
         const key = boundedSquaredDistance(x, pRow, q * d, d, worstP > worstQ ? worstP : worstQ);
         evaluations++;

@@ -2,20 +2,23 @@
 /**
  * Worker thread of the approximate neighbour search (knn-approx.ts). Plain JavaScript for the
  * reason given in knn-kernel.mjs. It sees the rows, the heaps' keys and the candidate lists as
- * SharedArrayBuffers (no copies) and only reads them; it answers each request with new arrays,
+ * SharedArrayBuffers (no copies); it writes only the candidate lists and fresh flags of the points
+ * it is given, and otherwise only reads; it answers each request with new arrays,
  * transferred back:
  *   { type: 'init', ... }                 → { ok: true }
- *   { type: 'trees', seeds, leafSize }     → { ok: true, trees: [{ order, leafBounds }] }
+ *   { type: 'trees', seeds, leafSize }     → { ok: true, pairs: [{ count, p, q, key }] } (leafPairs per tree)
+ *   { type: 'candidates', from, to, seed } → { ok: true } (fills the candidate lists of its points)
+ *   { type: 'sample', from, to }           → { ok: true } (flags its points' sampled entries used)
  *   { type: 'join', i0, i1 }               → { ok: true, count, p, q, key, evaluations }
  * or { ok: false, message } on failure.
  */
 import { parentPort } from 'node:worker_threads';
-import { Updates, localJoin, mulberry32, splitTree } from './knn-descent-kernel.mjs';
+import { HeapMarks, Updates, buildCandidates, leafPairs, localJoin, markSampled, mulberry32, splitTree } from './knn-descent-kernel.mjs';
 
 if (parentPort === null) throw new Error('knn-descent-worker.mjs must be started as a worker thread');
 const port = parentPort;
 
-/** @type {{ x: Float32Array, n: number, d: number, keys: Float32Array, ids: Int32Array, K: number, newIds: Int32Array, oldIds: Int32Array, C: number } | undefined} */
+/** @type {{ x: Float32Array, n: number, d: number, keys: Float32Array, ids: Int32Array, K: number, fresh: Uint8Array, newIds: Int32Array, oldIds: Int32Array, newPri: Float32Array, oldPri: Float32Array, C: number, marks: HeapMarks } | undefined} */
 let shared;
 
 port.on('message', (/** @type {any} */ message) => {
@@ -28,29 +31,45 @@ port.on('message', (/** @type {any} */ message) => {
         keys: new Float32Array(message.keys),
         ids: new Int32Array(message.ids),
         K: message.K,
+        fresh: new Uint8Array(message.fresh),
         newIds: new Int32Array(message.newIds),
         oldIds: new Int32Array(message.oldIds),
+        newPri: new Float32Array(message.newPri),
+        oldPri: new Float32Array(message.oldPri),
         C: message.C,
+        marks: new HeapMarks(message.n),
       };
       port.postMessage({ ok: true });
       return;
     }
     if (shared === undefined) throw new Error('not initialised');
     if (message.type === 'trees') {
-      const trees = [];
+      const pairs = [];
       /** @type {ArrayBuffer[]} */
       const transfer = [];
       for (const seed of message.seeds) {
         const tree = splitTree(shared.x, shared.n, shared.d, message.leafSize, mulberry32(seed));
-        trees.push(tree);
-        transfer.push(/** @type {ArrayBuffer} */ (tree.order.buffer), /** @type {ArrayBuffer} */ (tree.leafBounds.buffer));
+        const list = leafPairs(shared.x, shared.d, tree.order, tree.leafBounds);
+        pairs.push(list);
+        transfer.push(/** @type {ArrayBuffer} */ (list.p.buffer), /** @type {ArrayBuffer} */ (list.q.buffer), /** @type {ArrayBuffer} */ (list.key.buffer));
       }
-      port.postMessage({ ok: true, trees }, transfer);
+      port.postMessage({ ok: true, pairs }, transfer);
+      return;
+    }
+    if (message.type === 'candidates') {
+      const { ids, fresh, n, K, C, newIds, newPri, oldIds, oldPri } = shared;
+      buildCandidates(ids, fresh, n, K, C, message.seed, newIds, newPri, oldIds, oldPri, message.from, message.to);
+      port.postMessage({ ok: true });
+      return;
+    }
+    if (message.type === 'sample') {
+      markSampled(shared.ids, shared.fresh, shared.K, shared.C, shared.newIds, message.from, message.to, shared.marks);
+      port.postMessage({ ok: true });
       return;
     }
     if (message.type === 'join') {
       const out = new Updates();
-      const evaluations = localJoin(shared.x, shared.d, shared.keys, shared.ids, shared.K, shared.newIds, shared.oldIds, shared.C, message.i0, message.i1, out);
+      const evaluations = localJoin(shared.x, shared.d, shared.keys, shared.ids, shared.K, shared.newIds, shared.oldIds, shared.C, message.i0, message.i1, out, shared.marks);
       const p = out.p.slice(0, out.count);
       const q = out.q.slice(0, out.count);
       const key = out.key.slice(0, out.count);
