@@ -5,16 +5,16 @@
  * The threshold is on the work of the exact search, n² · d multiply-adds (n rows of d dimensions):
  * exact while n² · d ≤ EXACT_KNN_MAX_WORK = 20,000² · 32 ≈ 1.3 · 10¹⁰, i.e. up to 20,000 rows of
  * 32 dimensions, 10,000 rows of 128, 40,000 rows of 8. Why there:
- * - the exact search at that size takes 4–15 s on two threads here (measured 25.8 s at
- *   50,000 × 32 on a quiet machine, 56 s on a busy one; the work grows with n²), at most about
- *   twice the approximate search (20,000 × 32 NN-descent: ~3–6 s), so below it exact is
- *   affordable and free of error;
- * - the fidelity scores (trustworthiness, continuity) rank every pair exactly anyway and are only
- *   computed up to 20,000 entities (FIDELITY_MAX_ENTITIES in lib/projections/run-job.ts), so
- *   every scored projection of up to 32 dimensions ranks against the exact graph;
- * - beyond, the exact search grows quadratically (50,000 × 32: 26–56 s; 200,000 × 32: ~7–15 min)
- *   while NN-descent grows roughly as n log n (50,000 × 32: 13 s on a busy machine, recall 0.96
- *   at k = 15 on hard synthetic data; scripts/bench-projection.ts).
+ * - the exact search at that size takes 2–3 s on two threads on an idle machine (50,000 × 32:
+ *   11.3 s idle, up to 56 s on a busy machine; the work grows with n²), about the approximate
+ *   search's time (20,000 × 32 NN-descent: ~1 s), so below it exact is affordable and free of
+ *   error;
+ * - the exact fidelity scores (trustworthiness, continuity) rank every pair up to 20,000 entities
+ *   (FIDELITY_MAX_ENTITIES in lib/projections/run-job.ts; sampled beyond), so every exactly
+ *   scored projection of up to 32 dimensions ranks against the exact graph;
+ * - beyond, the exact search grows quadratically (50,000 × 32: 11–56 s; 200,000 × 32: ~3–15 min)
+ *   while NN-descent grows roughly as n log n (50,000 × 32: 2.6 s idle, recall 0.96 at k = 15 on
+ *   hard synthetic data; scripts/bench-projection.ts).
  */
 import type { UniformGenerator } from '../align/random';
 import { type KnnGraph, type KnnMetric, exactKnnParallel } from './knn';
