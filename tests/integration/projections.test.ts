@@ -218,3 +218,44 @@ describe('projections on the job queue', () => {
     expect((await api('GET', `/api/projections/${one?.id}`, { token: f.outsider.token })).status).toBe(404);
   });
 });
+
+describe('projections of a factor set above 20,000 entities', () => {
+  let f: RoleFixture;
+  let factorSetId: string;
+  const n = 20_500;
+  const d = 4;
+  const values = mixture(n, d, 11);
+
+  beforeAll(async () => {
+    f = await workspaceWithEveryRole('Large projection fixture');
+    const ids = Array.from({ length: n }, (_, i) => `L${i}`);
+    const created = await upload<{ id: string }>(`/api/workspaces/${f.workspaceId}/factor-sets`, f.members.analyst.token, {
+      file: { content: wideCsv(ids, values, d), filename: 'large.csv' },
+    });
+    expect(created.status).toBe(201);
+    factorSetId = created.body.id;
+  }, 120_000);
+
+  it('stores sampled T, C and kNN preservation and a per-point fidelity for every entity', async () => {
+    const queued = await api<{ id: string }>('POST', `/api/factor-sets/${factorSetId}/projections`, { token: f.members.analyst.token, body: { method: 'pca', params: {}, seed: 1 } });
+    expect(queued.status).toBe(202);
+    const done = await until(queued.body.id, f.members.viewer.token, finished, 120_000);
+    expect(done.status, done.error ?? '').toBe('done');
+    const quality = done.quality as (WireProjection['quality'] & { sampledQueries?: number }) | null;
+    expect(quality?.sampledQueries).toBe(500);
+    for (const k of ['5', '15', '50']) {
+      expect(quality?.trustworthiness[k]).toBeGreaterThan(0.5);
+      expect(quality?.trustworthiness[k]).toBeLessThanOrEqual(1);
+      expect(quality?.continuity[k]).toBeGreaterThan(0.5);
+      expect(quality?.continuity[k]).toBeLessThanOrEqual(1);
+    }
+    expect(quality?.knnPreservation).toBeGreaterThan(0);
+    expect(done.versions?.neighbours).toBe('exact');
+    const fidelity = await binary(`/api/projections/${done.id}/fidelity`, f.members.viewer.token);
+    expect(fidelity.length).toBe(n);
+    expect(fidelity.every((v) => v >= 0 && v <= 1)).toBe(true);
+    // The per-point shares average to about the sampled preservation (500 queries: within 0.05, rule of thumb).
+    const mean = fidelity.reduce((sum, v) => sum + v, 0) / n;
+    expect(Math.abs(mean - (quality?.knnPreservation ?? 0))).toBeLessThan(0.05);
+  }, 180_000);
+});
