@@ -4,26 +4,16 @@
  * the seed can be stored with what it produced.
  */
 import { Matrix, QrDecomposition } from 'ml-matrix';
+import { mulberry32 as mulberry32Kernel } from '../projection/hash-kernel.mjs';
 
 /** A source of uniform numbers in [0, 1). */
 export type UniformGenerator = () => number;
 
 /**
- * mulberry32 (Tommy Ettinger's 32-bit generator, public domain): fast, 2³² period, good enough
- * for simulation and test data; not for cryptography.
- *
- * @param seed - any number; its low 32 bits are used.
+ * mulberry32 (Tommy Ettinger's 32-bit generator, public domain), written once in
+ * lib/projection/hash-kernel.mjs so that worker threads draw the same numbers from the same seed.
  */
-export function mulberry32(seed: number): UniformGenerator {
-  let state = seed >>> 0;
-  return () => {
-    state = (state + 0x6d2b79f5) >>> 0;
-    let t = state;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+export const mulberry32: (seed: number) => UniformGenerator = mulberry32Kernel;
 
 /**
  * A standard normal generator by the Box–Muller transform, using two uniforms per pair of

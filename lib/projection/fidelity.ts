@@ -101,12 +101,7 @@ function rankPenalties(rows: Float64Array, n: number, d: number, graph: KnnGraph
   const kMax = Math.max(...ks);
   const stride = graph.k;
   const scratch = new Float64Array(QUERY_BLOCK * n);
-  // One point's neighbours sorted by (key in `rows`, index): their keys, indices, list positions.
-  const sortedKey = new Float64Array(kMax);
-  const sortedId = new Int32Array(kMax);
-  const sortedPos = new Int32Array(kMax);
-  // counts[p]: points that precede sorted neighbour p but not p − 1.
-  const counts = new Int32Array(kMax + 1);
+  const ranks = rankScratch(kMax);
   const sums = new Float64Array(ks.length);
   const norms = new Float64Array(n);
   rowNorms(rows, n, d, norms);
@@ -114,51 +109,8 @@ function rankPenalties(rows: Float64Array, n: number, d: number, graph: KnnGraph
     const q1 = Math.min(n, q0 + QUERY_BLOCK);
     keyRows(rows, norms, n, d, q0, q1, scratch);
     for (let i = q0; i < q1; i++) {
-      const row = (i - q0) * n;
-      // Insertion-sort the first kMax neighbours by (key, index).
-      for (let s = 0; s < kMax; s++) {
-        const id = graph.indices[i * stride + s] as number;
-        const key = scratch[row + id] as number;
-        let p = s - 1;
-        while (p >= 0 && ((sortedKey[p] as number) > key || ((sortedKey[p] as number) === key && (sortedId[p] as number) > id))) {
-          sortedKey[p + 1] = sortedKey[p] as number;
-          sortedId[p + 1] = sortedId[p] as number;
-          sortedPos[p + 1] = sortedPos[p] as number;
-          p--;
-        }
-        sortedKey[p + 1] = key;
-        sortedId[p + 1] = id;
-        sortedPos[p + 1] = s;
-      }
-      counts.fill(0);
-      const lastKey = sortedKey[kMax - 1] as number;
-      const lastId = sortedId[kMax - 1] as number;
-      for (let l = 0; l < n; l++) {
-        if (l === i) continue;
-        const key = scratch[row + l] as number;
-        // Most points lie beyond every neighbour: one comparison and out.
-        if (key > lastKey || (key === lastKey && l >= lastId)) continue;
-        // First p with (key, l) < sorted[p].
-        let lo = 0;
-        let hi = kMax - 1;
-        while (lo < hi) {
-          const mid = (lo + hi) >> 1;
-          const mk = sortedKey[mid] as number;
-          if (key < mk || (key === mk && l < (sortedId[mid] as number))) hi = mid;
-          else lo = mid + 1;
-        }
-        counts[lo] = (counts[lo] as number) + 1;
-      }
-      let preceding = 0;
-      for (let p = 0; p < kMax; p++) {
-        preceding += counts[p] as number;
-        const rank = 1 + preceding;
-        const position = sortedPos[p] as number;
-        for (let index = 0; index < ks.length; index++) {
-          const k = ks[index] as number;
-          if (position < k && rank > k) sums[index] = (sums[index] as number) + (rank - k);
-        }
-      }
+      const keys = scratch.subarray((i - q0) * n, (i - q0 + 1) * n);
+      addRankPenalties(keys, n, i, graph.indices.subarray(i * stride, i * stride + kMax), ks, kMax, ranks, sums);
     }
     onProgress?.(q1 / n);
   }
@@ -598,11 +550,16 @@ function addRankPenalties(keys: Float64Array, n: number, i: number, neighbours: 
   }
 }
 
+/** One point's neighbours sorted by (key, index): keys, indices, list positions; and counts[p], the points that precede sorted neighbour p but not p − 1. */
 interface RankScratch {
   sortedKey: Float64Array;
   sortedId: Int32Array;
   sortedPos: Int32Array;
   counts: Int32Array;
+}
+
+function rankScratch(kMax: number): RankScratch {
+  return { sortedKey: new Float64Array(kMax), sortedId: new Int32Array(kMax), sortedPos: new Int32Array(kMax), counts: new Int32Array(kMax + 1) };
 }
 
 export interface SampledRankScores {
@@ -659,7 +616,7 @@ export function sampledRankScores(
   const mapKey = new Float64Array(kMax);
   const latentId = new Int32Array(kMax);
   const latentKey = new Float64Array(kMax);
-  const scratch: RankScratch = { sortedKey: new Float64Array(kMax), sortedId: new Int32Array(kMax), sortedPos: new Int32Array(kMax), counts: new Int32Array(kMax + 1) };
+  const scratch = rankScratch(kMax);
   const trustSums = new Float64Array(ks.length);
   const continuitySums = new Float64Array(ks.length);
   let kept = 0;

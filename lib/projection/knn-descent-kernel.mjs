@@ -12,23 +12,10 @@
  *
  * Distances: Σ(x_t − y_t)² of the Float32 values, summed in Float64, then stored as Float32.
  */
+import { fmix32 } from './hash-kernel.mjs';
 
-/**
- * mulberry32, the generator of lib/align/random.ts, repeated here so that worker threads draw the
- * same numbers from the same seed.
- * @param {number} seed
- * @returns {() => number}
- */
-export function mulberry32(seed) {
-  let state = seed >>> 0;
-  return () => {
-    state = (state + 0x6d2b79f5) >>> 0;
-    let t = state;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+// The worker imports the generator from here with the rest of the kernel.
+export { mulberry32 } from './hash-kernel.mjs';
 
 /**
  * Squared Euclidean distance of the rows starting at p and q (offsets, not indices).
@@ -310,19 +297,6 @@ function candidatePush(cIds, cPri, C, i, priority, j) {
   }
   cPri[base + position] = priority;
   cIds[base + position] = j;
-}
-
-/**
- * The 32-bit finaliser of MurmurHash3 (a bijection that spreads every input bit over the output).
- * @param {number} h
- */
-function fmix32(h) {
-  h ^= h >>> 16;
-  h = Math.imul(h, 0x85ebca6b);
-  h ^= h >>> 13;
-  h = Math.imul(h, 0xc2b2ae35);
-  h ^= h >>> 16;
-  return h;
 }
 
 /**

@@ -373,49 +373,15 @@ export function finishHeaps(heapKey, heapIndex, n, k, metric, indices, distances
  * @param {Float64Array} out (q1 − q0) × n
  */
 export function keyRows(x, norms, n, d, q0, q1, out) {
-  let q = q0;
-  for (; q + 3 < q1; q += 4) {
-    const b0 = q * d;
-    const b1 = b0 + d;
-    const b2 = b1 + d;
-    const b3 = b2 + d;
-    const o0 = (q - q0) * n;
-    const o1 = o0 + n;
-    const o2 = o1 + n;
-    const o3 = o2 + n;
-    const n0 = norms[q];
-    const n1 = norms[q + 1];
-    const n2 = norms[q + 2];
-    const n3 = norms[q + 3];
-    for (let l = 0; l < n; l++) {
-      const lb = l * d;
-      let a0 = 0;
-      let a1 = 0;
-      let a2 = 0;
-      let a3 = 0;
-      for (let t = 0; t < d; t++) {
-        const y = x[lb + t];
-        a0 += x[b0 + t] * y;
-        a1 += x[b1 + t] * y;
-        a2 += x[b2 + t] * y;
-        a3 += x[b3 + t] * y;
-      }
-      const m = norms[l];
-      out[o0 + l] = keyOf(n0, m, a0);
-      out[o1 + l] = keyOf(n1, m, a1);
-      out[o2 + l] = keyOf(n2, m, a2);
-      out[o3 + l] = keyOf(n3, m, a3);
-    }
-  }
-  for (; q < q1; q++) {
-    const o0 = (q - q0) * n;
-    for (let l = 0; l < n; l++) out[o0 + l] = keyOf(norms[q], norms[l], dot(x, q * d, l * d, d));
-  }
+  const ids = new Int32Array(q1 - q0);
+  for (let r = 0; r < ids.length; r++) ids[r] = q0 + r;
+  keyRowsAt(x, norms, n, d, ids, out);
 }
 
 /**
- * Keys from the query rows `ids` (any point indices) to every point, into out[r × n + l]; the
- * same arithmetic as keyRows (bit-identical keys), four queries per pass over the points so that
+ * Keys from the query rows `ids` (any point indices) to every point, into out[r × n + l] (0 for a
+ * query with itself: its squared norm is summed in the same order as the dot product); the same
+ * keys as scanBlockRows computes for the same pairs, four queries per pass over the points so that
  * each point's row is loaded once for four dot products. For sampled fidelity scores, whose
  * queries are scattered.
  * @param {Float64Array} x prepared rows, n × d
@@ -452,15 +418,10 @@ export function keyRowsAt(x, norms, n, d, ids, out) {
       out[o2 + l] = keyOf(n2, m, a2);
       out[o3 + l] = keyOf(n3, m, a3);
     }
-    out[o0 + q0] = 0;
-    out[o1 + q1] = 0;
-    out[o2 + q2] = 0;
-    out[o3 + q3] = 0;
   }
   for (; r < count; r++) {
     const q = ids[r];
     const o0 = r * n;
     for (let l = 0; l < n; l++) out[o0 + l] = keyOf(norms[q], norms[l], dot(x, q * d, l * d, d));
-    out[o0 + q] = 0;
   }
 }

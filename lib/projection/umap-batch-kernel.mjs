@@ -30,6 +30,7 @@
  *     0.9812 and the in-place layout's 0.9804): Adam's per-coordinate scaling tames the first
  *     epochs, where a vertex's summed pulls are large.
  */
+import { fmix32 } from './hash-kernel.mjs';
 
 /** Adam's decay of the gradient mean (uwot's batch default, from memory). 0–1: larger smooths more and reacts later. */
 export const ADAM_BETA1 = 0.5;
@@ -44,20 +45,6 @@ const NEGATIVE_SAMPLE_RATE = 5;
 const CLIP = 4;
 /** Weight of the repulsive term (umap-kernel.ts REPULSION_STRENGTH). */
 const REPULSION = 1;
-
-/**
- * The 32-bit finaliser of MurmurHash3: a bijection that spreads every input bit over the output,
- * so nearby (seed, epoch, vertex) keys give unrelated streams.
- * @param {number} h
- */
-function fmix32(h) {
-  h ^= h >>> 16;
-  h = Math.imul(h, 0x85ebca6b);
-  h ^= h >>> 13;
-  h = Math.imul(h, 0xc2b2ae35);
-  h ^= h >>> 16;
-  return h | 0;
-}
 
 /**
  * Starting state of vertex i's negative-sample stream in one epoch (a mulberry32 state).

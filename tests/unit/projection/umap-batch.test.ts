@@ -7,56 +7,26 @@
  * split, and cancellation with the worker threads stopped.
  */
 import { describe, expect, it } from 'vitest';
-import { trustworthiness } from '@/lib/projection/fidelity';
 import { ProgressReporter } from '@/lib/projection/job-control';
-import { exactKnn } from '@/lib/projection/knn';
 import type { UmapParams } from '@/lib/projection/params';
-import { type UmapEngine, runUmap } from '@/lib/projection/umap';
+import type { UmapEngine } from '@/lib/projection/umap';
 import { balancedRanges } from '@/lib/projection/umap-batch';
 import { bitIdentical, gaussianMixture } from './methods-fixtures';
 import { digitsData } from './pca-fixtures';
+import { UMAP_TEST_PARAMS as PARAMS, expectTrustworthinessLikeUmapJs as compare, umapLayout } from './umap-fixtures';
 
-const PARAMS: UmapParams = { nNeighbors: 15, minDist: 0.1, spread: 1, nEpochs: 500, metric: 'euclidean', init: 'pca' };
-
-async function layout(data: Float32Array, n: number, d: number, engine: UmapEngine, options: { params?: UmapParams; seed?: number; threads?: number; signal?: AbortSignal; progress?: ProgressReporter } = {}): Promise<Float32Array> {
-  const params = options.params ?? PARAMS;
-  const knn = exactKnn(data, n, d, params.nNeighbors - 1);
-  return runUmap({
-    data,
-    n,
-    d,
-    params,
-    seed: options.seed ?? 42,
-    knn,
-    engine,
-    progress: options.progress ?? new ProgressReporter(undefined),
-    ...(options.threads !== undefined ? { threads: options.threads } : {}),
-    ...(options.signal ? { signal: options.signal } : {}),
-  });
-}
-
-async function compare(name: string, data: Float32Array, n: number, d: number): Promise<void> {
-  const ours: number[] = [];
-  const theirs: number[] = [];
-  for (const seed of [1, 2, 3]) {
-    ours.push(trustworthiness(data, n, d, await layout(data, n, d, 'batch', { seed }), [15])[0] as number);
-    theirs.push(trustworthiness(data, n, d, await layout(data, n, d, 'umap-js', { seed }), [15])[0] as number);
-    console.log(`${name} seed ${seed} T(15): batch ${(ours.at(-1) ?? 0).toFixed(4)}, umap-js ${(theirs.at(-1) ?? 0).toFixed(4)}`);
-  }
-  const mean = (values: number[]): number => values.reduce((sum, value) => sum + value, 0) / values.length;
-  console.log(`${name} mean T(15): batch ${mean(ours).toFixed(4)}, umap-js ${mean(theirs).toFixed(4)}`);
-  expect(Math.abs(mean(ours) - mean(theirs))).toBeLessThanOrEqual(0.005);
-}
+const layout = async (data: Float32Array, n: number, d: number, engine: UmapEngine, options: Parameters<typeof umapLayout>[4] = {}): Promise<Float32Array> =>
+  (await umapLayout(data, n, d, engine, options)).coordinates;
 
 describe('batch UMAP layout against umap-js 1.4.0 on the same graph and start', () => {
   it('digits (scikit-learn): trustworthiness at 15 within 0.005', async () => {
     const { data, n, d } = digitsData();
-    await compare('digits', data, n, d);
+    await compare('digits', data, n, d, 'batch');
   }, 300_000);
 
   it('seeded 3-cluster mixture: trustworthiness at 15 within 0.005', async () => {
     const { data, n, d } = gaussianMixture(7, 3, 200, 10);
-    await compare('mixture', data, n, d);
+    await compare('mixture', data, n, d, 'batch');
   }, 120_000);
 });
 
