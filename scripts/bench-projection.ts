@@ -14,6 +14,7 @@
  *   - Python sklearn.decomposition.PCA (python3-sklearn, /usr/bin/python3),
  *   - Python pynndescent.NNDescent (python3-pynndescent; warmed up first, since its first call
  *     compiles with numba for ~20 s), n_neighbors 16 (it counts the point itself), recall by us.
+ *     Our NN-descent is warmed the same way (a first search on 2,000 rows keeps its threads).
  * Memory of a reference is its own peak (VmHWM from /proc/self/status), not comparable one-to-one
  * with ours (R and Python load their runtimes and libraries).
  *
@@ -258,6 +259,9 @@ async function bench(set: Dataset): Promise<void> {
     exactPeakMb = run.peakMb;
     push({ dataset: set.name, step: `exact kNN k=${K}`, seconds: run.seconds, peakMb: run.peakMb, quality: 'recall 1' });
   }
+  // Warm, as pynndescent is warmed below: a first search on 2,000 rows starts the worker threads
+  // (kept for later searches, knn-approx.ts) and compiles their code.
+  await approxKnn(set.data.subarray(0, Math.min(set.n, 2000) * set.d), Math.min(set.n, 2000), set.d, K, 'euclidean', mulberry32(1), { threads: THREADS });
   const approx = await timed(() => approxKnn(set.data, set.n, set.d, K, 'euclidean', mulberry32(1), { threads: THREADS }));
   const approxRow: Row = { dataset: set.name, step: `NN-descent kNN k=${K}`, seconds: approx.seconds, peakMb: approx.peakMb, quality: `recall ${recallOf(approx.value, set, exact).toFixed(4)}` };
   if (havePynndescent) {

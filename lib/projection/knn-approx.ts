@@ -43,14 +43,15 @@
  * Determinism: all randomness comes from the generator passed in, in a fixed order; nothing depends
  * on timing or on the thread count: the same rows, settings and seed give the same graph.
  *
- * Accuracy and speed (scripts/bench-projection.ts, k = 15, two threads, on an otherwise idle
- * two-core machine; seeded mixtures of 20 Gaussian clusters, the hardest kind of data for any
+ * Accuracy and speed (scripts/bench-projection.ts, k = 15, two threads, warm (worker threads
+ * kept from an earlier search, see IDLE_WORKER_MS; pynndescent warmed likewise), on an otherwise
+ * idle two-core machine; seeded mixtures of 20 Gaussian clusters, the hardest kind of data for any
  * neighbour search since each cluster fills all 32 dimensions):
- *   10,000 × 32: recall 0.995 in 0.5–0.7 s; pynndescent 0.5.8 (warm, n_jobs 2): 0.988 in 0.33 s.
- *   50,000 × 32: recall 0.963 in 2.6 s;     pynndescent: 0.939 in 2.2 s; exact search 11.3 s.
- * So about 1.2× pynndescent's time (numba-compiled) at 50,000 points, at higher recall; at 10,000
- * starting the worker threads and compiling their code is a large share. Real factor sets, whose
- * variance falls off over the dimensions, give higher recall.
+ *   10,000 × 32: recall 0.995 in 0.33 s; pynndescent 0.5.8 (n_jobs 2): 0.988 in 0.33–0.38 s.
+ *   50,000 × 32: recall 0.963 in 2.2 s;  pynndescent: 0.939 in 2.1–2.2 s; exact search 11.3 s.
+ * A cold search (fresh threads) costs ~0.1 s more for the threads plus slower first trees while
+ * their code compiles (10,000 × 32: 0.7 s). Real factor sets, whose variance falls off over the
+ * dimensions, give higher recall.
  *
  * Cost: the trees O(nTrees · n log(n/leafSize) · d) plus O(nTrees · n · leafSize · d) for the
  * leaves; each NN-descent iteration at most n · 1.5 · maxCandidates² distances of d multiply-adds,
@@ -61,8 +62,8 @@
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import type { UniformGenerator } from '../align/random';
-import { HeapMarks, Updates, applyUpdates, buildCandidates, fillRandom, leafPairs, localJoin, markSampled, mulberry32, splitTree, type RpTree } from './knn-descent-kernel.mjs';
-import { finishHeaps, pairKey, rowNorms } from './knn-kernel.mjs';
+import { HeapMarks, Updates, applyUpdates, buildCandidates, finishRows, fillRandom, leafPairs, localJoin, markSampled, mulberry32, splitTree, type RpTree } from './knn-descent-kernel.mjs';
+import { finishHeaps, rowNorms } from './knn-kernel.mjs';
 import { type KnnGraph, type KnnMetric, checkMatrix, metricCode, prepareKnnRows } from './knn';
 
 export interface ApproxKnnOptions {
@@ -182,30 +183,9 @@ function settingsFor(n: number, k: number, options: ApproxKnnOptions): Settings 
 function finish(heapIds: Int32Array, original: Int32Array, prepared: Float64Array, n: number, d: number, k: number, searchK: number, metric: KnnMetric): KnnGraph {
   const norms = new Float64Array(n);
   rowNorms(prepared, n, d, norms);
-  const keys = new Float64Array(searchK);
-  const ids = new Int32Array(searchK);
   const heapKey = new Float64Array(n * k);
   const heapIndex = new Int32Array(n * k);
-  for (let r = 0; r < n; r++) {
-    const i = original[r] as number;
-    const base = r * searchK;
-    // Insertion sort of the searchK slots by (key, index) (searchK is small).
-    for (let s = 0; s < searchK; s++) {
-      const slot = heapIds[base + s] as number;
-      const id = slot < 0 ? -1 : (original[slot] as number);
-      const key = id < 0 ? Infinity : pairKey(prepared, norms, d, i, id);
-      let p = s - 1;
-      while (p >= 0 && ((keys[p] as number) > key || ((keys[p] as number) === key && (ids[p] as number) > id))) {
-        keys[p + 1] = keys[p] as number;
-        ids[p + 1] = ids[p] as number;
-        p--;
-      }
-      keys[p + 1] = key;
-      ids[p + 1] = id;
-    }
-    heapKey.set(keys.subarray(0, k), i * k);
-    heapIndex.set(ids.subarray(0, k), i * k);
-  }
+  finishRows(heapIds, searchK, original, prepared, norms, d, k, 0, n, heapKey, heapIndex);
   const indices = new Int32Array(n * k);
   const distances = new Float32Array(n * k);
   finishHeaps(heapKey, heapIndex, n, k, metricCode(metric), indices, distances);
@@ -235,17 +215,84 @@ function isWorkerReply(value: unknown): value is WorkerReply {
   return typeof value === 'object' && value !== null && typeof (value as { ok?: unknown }).ok === 'boolean';
 }
 
+/**
+ * Worker threads kept between searches. Starting a worker and compiling the kernel in it cost
+ * ~0.1 s per search and slowed its first tree several-fold (measured here: 10,000 × 32 on two
+ * threads took 0.7 s cold, longer than on one), which the job worker, running search after search,
+ * need not pay each time. A worker is kept only after a search that ended normally (every request
+ * answered); it holds no data while idle ('release'), does not keep the process alive (unref), and
+ * is stopped after IDLE_WORKER_MS unused.
+ */
+const idleDescentWorkers: Worker[] = [];
+const idleTimers = new Map<Worker, NodeJS.Timeout>();
+export const IDLE_WORKER_MS = 60_000;
+
+/** Idle NN-descent workers (tests and benchmarks). */
+export function idleDescentWorkerCount(): number {
+  return idleDescentWorkers.length;
+}
+
+function takeIdleWorker(): Worker | undefined {
+  const worker = idleDescentWorkers.pop();
+  if (worker === undefined) return undefined;
+  clearTimeout(idleTimers.get(worker));
+  idleTimers.delete(worker);
+  worker.ref();
+  return worker;
+}
+
+function keepIdle(worker: Worker): void {
+  worker.unref();
+  idleDescentWorkers.push(worker);
+  const timer = setTimeout(() => {
+    const at = idleDescentWorkers.indexOf(worker);
+    if (at >= 0) idleDescentWorkers.splice(at, 1);
+    idleTimers.delete(worker);
+    worker.terminate().catch((error: unknown) => console.error('approximate neighbour search: an idle worker did not stop', error));
+  }, IDLE_WORKER_MS);
+  timer.unref();
+  idleTimers.set(worker, timer);
+}
+
+/** One request to a worker and its answer; rejects if the worker fails or exits first. */
+function askWorker(worker: Worker, slot: number, message: Record<string, unknown>): Promise<WorkerReply> {
+  return new Promise<WorkerReply>((resolve, reject) => {
+    const done = () => {
+      worker.off('message', onMessage);
+      worker.off('error', onError);
+      worker.off('exit', onExit);
+    };
+    const onError = (error: Error) => {
+      done();
+      reject(error);
+    };
+    const onExit = (code: number) => {
+      done();
+      reject(new Error(`approximate neighbour search: worker ${slot} exited with code ${code}`));
+    };
+    const onMessage = (reply: unknown) => {
+      done();
+      if (!isWorkerReply(reply) || !reply.ok) reject(new Error(`approximate neighbour search: worker ${slot} failed: ${isWorkerReply(reply) ? reply.message : 'bad reply'}`));
+      else resolve(reply);
+    };
+    worker.on('message', onMessage);
+    worker.once('error', onError);
+    worker.once('exit', onExit);
+    worker.postMessage(message);
+  });
+}
+
 /** Worker threads running knn-descent-worker.mjs, one request at a time each. */
 class DescentPool {
   private constructor(private readonly workers: Worker[]) {}
 
   static async start(threads: number, init: Record<string, unknown>): Promise<DescentPool> {
     const url = new URL('./knn-descent-worker.mjs', import.meta.url);
-    const pool = new DescentPool(Array.from({ length: threads }, () => new Worker(url)));
+    const pool = new DescentPool(Array.from({ length: threads }, () => takeIdleWorker() ?? new Worker(url)));
     try {
       await Promise.all(pool.workers.map((_, slot) => pool.request(slot, { type: 'init', ...init })));
     } catch (error) {
-      await pool.close();
+      await pool.close(false);
       throw error;
     }
     return pool;
@@ -258,24 +305,25 @@ class DescentPool {
   request(slot: number, message: Record<string, unknown>): Promise<WorkerReply> {
     const worker = this.workers[slot];
     if (worker === undefined) return Promise.reject(new Error(`approximate neighbour search: no worker ${slot}`));
-    return new Promise<WorkerReply>((resolve, reject) => {
-      const onError = (error: Error) => {
-        worker.off('message', onMessage);
-        reject(error);
-      };
-      const onMessage = (reply: unknown) => {
-        worker.off('error', onError);
-        if (!isWorkerReply(reply) || !reply.ok) reject(new Error(`approximate neighbour search: worker ${slot} failed: ${isWorkerReply(reply) ? reply.message : 'bad reply'}`));
-        else resolve(reply);
-      };
-      worker.once('message', onMessage);
-      worker.once('error', onError);
-      worker.postMessage(message);
-    });
+    return askWorker(worker, slot, message);
   }
 
-  async close(): Promise<void> {
-    await Promise.all(this.workers.map((worker) => worker.terminate()));
+  /**
+   * @param reuse - true only when every request was answered: the workers drop the search's data
+   *   and wait for the next search; otherwise (a failure, an abort between requests) they stop.
+   */
+  async close(reuse: boolean): Promise<void> {
+    const workers = this.workers.splice(0);
+    if (reuse) {
+      try {
+        await Promise.all(workers.map((worker, slot) => askWorker(worker, slot, { type: 'release' })));
+        for (const worker of workers) keepIdle(worker);
+        return;
+      } catch (error) {
+        console.error('approximate neighbour search: a worker could not be kept for the next search', error);
+      }
+    }
+    await Promise.all(workers.map((worker) => worker.terminate()));
   }
 }
 
@@ -436,11 +484,14 @@ export async function approxKnn(
       await pause();
       if (changed <= settings.delta * n * K) break;
     }
-  } finally {
-    await pool?.close();
+    await pool?.close(true);
+    const graph = finish(ids, original, prepared, n, d, k, K, metric);
+    if (stats) Object.assign(stats, record);
+    return graph;
+  } catch (error) {
+    await pool?.close(false);
+    throw error;
   }
-  if (stats) Object.assign(stats, record);
-  return finish(ids, original, prepared, n, d, k, K, metric);
 }
 
 /**

@@ -43,3 +43,4 @@ export declare class HeapMarks {
 }
 export declare function localJoin(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, K: number, newIds: Int32Array, oldIds: Int32Array, C: number, i0: number, i1: number, out: Updates, marks: HeapMarks): number;
 export declare function applyUpdates(keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, p: Int32Array, q: Int32Array, key: Float32Array, count: number): number;
+export declare function finishRows(heapIds: Int32Array, searchK: number, original: Int32Array, prepared: Float64Array, norms: Float64Array, d: number, k: number, from: number, to: number, heapKey: Float64Array, heapIndex: Int32Array): void;

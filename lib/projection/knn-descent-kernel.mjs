@@ -13,6 +13,7 @@
  * Distances: Σ(x_t − y_t)² of the Float32 values, summed in Float64, then stored as Float32.
  */
 import { fmix32 } from './hash-kernel.mjs';
+import { pairKey } from './knn-kernel.mjs';
 
 // The worker imports the generator from here with the rest of the kernel.
 export { mulberry32 } from './hash-kernel.mjs';
@@ -526,4 +527,47 @@ export function applyUpdates(keys, ids, fresh, K, p, q, key, count) {
     changed += heapPush(keys, ids, fresh, K, b, value, a);
   }
   return changed;
+}
+
+/**
+ * The end of the search for search rows [from, to): each row's searchK kept neighbours re-keyed
+ * with the exact kernel's Float64 expansion (pairKey on the prepared rows), sorted by (key, index),
+ * and the first k written in the caller's order (row r is the caller's original[r]) to heapKey /
+ * heapIndex (n × k). On the calling thread: measured here, splitting it across the workers saved
+ * no time at 50,000 × 32 (the rows would first be copied into shared memory).
+ * @param {Int32Array} heapIds n × searchK, search-row indices (−1 empty)
+ * @param {number} searchK
+ * @param {Int32Array} original search row → caller's index
+ * @param {Float64Array} prepared caller-order prepared rows (knn.ts prepareKnnRows)
+ * @param {Float64Array} norms their squared norms (rowNorms)
+ * @param {number} d
+ * @param {number} k
+ * @param {number} from
+ * @param {number} to
+ * @param {Float64Array} heapKey n × k output
+ * @param {Int32Array} heapIndex n × k output
+ */
+export function finishRows(heapIds, searchK, original, prepared, norms, d, k, from, to, heapKey, heapIndex) {
+  const keys = new Float64Array(searchK);
+  const ids = new Int32Array(searchK);
+  for (let r = from; r < to; r++) {
+    const i = original[r];
+    const base = r * searchK;
+    // Insertion sort of the searchK slots by (key, index) (searchK is small).
+    for (let s = 0; s < searchK; s++) {
+      const slot = heapIds[base + s];
+      const id = slot < 0 ? -1 : original[slot];
+      const key = id < 0 ? Infinity : pairKey(prepared, norms, d, i, id);
+      let p = s - 1;
+      while (p >= 0 && (keys[p] > key || (keys[p] === key && ids[p] > id))) {
+        keys[p + 1] = keys[p];
+        ids[p + 1] = ids[p];
+        p--;
+      }
+      keys[p + 1] = key;
+      ids[p + 1] = id;
+    }
+    heapKey.set(keys.subarray(0, k), i * k);
+    heapIndex.set(ids.subarray(0, k), i * k);
+  }
 }

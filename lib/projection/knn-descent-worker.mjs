@@ -6,6 +6,7 @@
  * it is given, and otherwise only reads; it answers each request with new arrays,
  * transferred back:
  *   { type: 'init', ... }                 → { ok: true }
+ *   { type: 'release' }                    → { ok: true } (drops the search's buffers; idle until the next init)
  *   { type: 'trees', seeds, leafSize }     → { ok: true, pairs: [{ count, p, q, key }] } (leafPairs per tree)
  *   { type: 'candidates', from, to, seed } → { ok: true } (fills the candidate lists of its points)
  *   { type: 'sample', from, to }           → { ok: true } (flags its points' sampled entries used)
@@ -39,6 +40,12 @@ port.on('message', (/** @type {any} */ message) => {
         C: message.C,
         marks: new HeapMarks(message.n),
       };
+      port.postMessage({ ok: true });
+      return;
+    }
+    if (message.type === 'release') {
+      // Kept for the next search: let this one's buffers go.
+      shared = undefined;
       port.postMessage({ ok: true });
       return;
     }

@@ -8,7 +8,7 @@
 import { describe, expect, it } from 'vitest';
 import { mulberry32 } from '@/lib/align/random';
 import { exactKnn, exactKnnOfRows } from '@/lib/projection/knn';
-import { type ApproxKnnStats, approxKnn, knnRecall } from '@/lib/projection/knn-approx';
+import { type ApproxKnnStats, approxKnn, idleDescentWorkerCount, knnRecall } from '@/lib/projection/knn-approx';
 import { EXACT_KNN_MAX_WORK, exactIsAffordable, firstNeighbours, knnGraph } from '@/lib/projection/knn-graph';
 import { gaussianMixture } from './methods-fixtures';
 
@@ -76,6 +76,27 @@ describe('approxKnn output', () => {
     expect(again.distances).toEqual(one.distances);
     expect(two.indices).toEqual(one.indices);
     expect(two.distances).toEqual(one.distances);
+  }, 60_000);
+
+  it('keeps its worker threads for the next search, and stops them when a search is aborted mid-way', async () => {
+    const before = idleDescentWorkerCount();
+    const first = await approxKnn(data, n, d, 10, 'euclidean', mulberry32(9), { threads: 2 });
+    expect(idleDescentWorkerCount()).toBe(Math.max(before, 2));
+    // The kept workers serve the next search: the same graph, and they are back afterwards.
+    const second = await approxKnn(data, n, d, 10, 'euclidean', mulberry32(9), { threads: 2 });
+    expect(second.indices).toEqual(first.indices);
+    expect(idleDescentWorkerCount()).toBe(Math.max(before, 2));
+    // Aborted between two steps: the workers it took are stopped, not kept.
+    const controller = new AbortController();
+    const aborted = approxKnn(data, n, d, 10, 'euclidean', mulberry32(9), {
+      threads: 2,
+      signal: controller.signal,
+      onProgress: (fraction) => {
+        if (fraction > 0.3) controller.abort(new Error('stop'));
+      },
+    });
+    await expect(aborted).rejects.toThrow(/stop/);
+    expect(idleDescentWorkerCount()).toBe(Math.max(before, 2) - 2);
   }, 60_000);
 
   it('equals exactKnn bit for bit on every row whose true neighbours it found (small set: nearly all)', async () => {
