@@ -1,3 +1,4 @@
+import { sql } from 'kysely';
 import { endianness } from 'node:os';
 import type { BlockKind } from '@/db/types';
 import type { DbOrTx } from '@/lib/users/users';
@@ -132,4 +133,22 @@ export async function readMatrix(db: DbOrTx, factorSetId: string, kind: BlockKin
     out.set(floatsOf(block.data), block.rowStart * width);
   }
   return out;
+}
+
+/**
+ * One row of a stored N×width matrix: only that row's bytes leave the database (a substring of
+ * its block), so a query about one entity of a 1,000,000-row set reads width·4 bytes.
+ */
+export async function readMatrixRow(db: DbOrTx, factorSetId: string, kind: BlockKind, row: number, width: number): Promise<Float32Array> {
+  if (!Number.isInteger(row) || row < 0) throw new RangeError(`row ${row} is not a row index`);
+  const found = await db
+    .selectFrom('factor_set_blocks')
+    .select((eb) => [sql<Buffer>`substring(${eb.ref('data')} from 1 + (${row} - ${eb.ref('row_start')}) * ${width * 4} for ${width * 4})`.as('bytes')])
+    .where('factor_set_id', '=', factorSetId)
+    .where('kind', '=', kind)
+    .where('row_start', '<=', row)
+    .where(sql<boolean>`${sql.ref('row_start')} + ${sql.ref('row_count')} > ${row}`)
+    .executeTakeFirst();
+  if (!found || found.bytes.byteLength !== width * 4) throw new RangeError(`row ${row} is not stored in this factor set`);
+  return floatsOf(found.bytes);
 }

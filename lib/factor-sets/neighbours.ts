@@ -3,7 +3,7 @@ import type { Kysely } from 'kysely';
 import type { Database } from '@/db/types';
 import { cachedNeighbourRow } from '@/lib/projections/knn-cache';
 import type { DbOrTx } from '@/lib/users/users';
-import { readMatrix } from './blocks';
+import { readMatrix, readMatrixRow } from './blocks';
 import { type FactorSet, findFactorSet } from './factor-sets';
 
 export interface NeighbourItem {
@@ -110,8 +110,8 @@ export async function latentNeighbours(
   const partnerSet = factorSet.jointPartnerId ? await findFactorSet(db, factorSet.jointPartnerId) : undefined;
   const withPartner = partnerSet !== undefined && partnerSet.dims === d;
   const cached = await cachedNeighbourRow(db, factorSet, q, metric, wanted);
-  // The whole matrix only when a search or the partner's affinities need it.
-  const values = cached && !withPartner ? undefined : await readMatrix(db, factorSet.id, 'values', n, d);
+  // The whole matrix only for a search; the partner's affinities need this entity's row alone.
+  const values = cached ? undefined : await readMatrix(db, factorSet.id, 'values', n, d);
   let nearest: number[];
   let distanceOf: (i: number) => number;
   if (cached) {
@@ -135,12 +135,13 @@ export async function latentNeighbours(
   const source: NeighboursAnswer['source'] = cached ? (cached.exact ? 'exact graph' : 'approximate graph') : 'exact search';
 
   let partner: NeighboursAnswer['partner'] = null;
-  if (withPartner && values) {
+  if (withPartner) {
+    const row = values ? values.subarray(q * d, (q + 1) * d) : await readMatrixRow(db, factorSet.id, 'values', q, d);
     const other = await readMatrix(db, partnerSet.id, 'values', partnerSet.rows, d);
     const affinity = new Float64Array(partnerSet.rows);
     for (let j = 0; j < partnerSet.rows; j += 1) {
       let dot = 0;
-      for (let c = 0; c < d; c += 1) dot += (values[q * d + c] ?? 0) * (other[j * d + c] ?? 0);
+      for (let c = 0; c < d; c += 1) dot += (row[c] ?? 0) * (other[j * d + c] ?? 0);
       affinity[j] = dot;
     }
     const top = topK(affinity, Math.min(k, partnerSet.rows), true, -1);

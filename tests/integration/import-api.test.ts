@@ -228,6 +228,23 @@ describe('importing factor sets through the API', () => {
       affinity: (gamma[0] ?? 0) * (delta[j * k] ?? 0) + (gamma[1] ?? 0) * (delta[j * k + 1] ?? 0),
     })).sort((a, b) => b.affinity - a.affinity);
     expect(near.body.partner.items.map((i) => i.id)).toEqual(truthAffinity.slice(0, 3).map((t) => t.id));
+
+    // Once a projection has cached the neighbour graph, the same query reads one row of it and
+    // one row of the matrix for the partner's affinities: the same answer.
+    const queued = await api<{ id: string }>('POST', `/api/factor-sets/${answer.body.id}/projections`, { token: f.members.analyst.token, body: { method: 'pca', params: {}, seed: 1 } });
+    for (let tries = 0; ; tries += 1) {
+      const p = await api<{ status: string }>('GET', `/api/projections/${queued.body.id}`, { token: f.members.viewer.token });
+      if (p.body.status === 'done') break;
+      if (tries > 240 || p.body.status === 'failed') throw new Error(`projection ${p.body.status}`);
+      await new Promise((r) => setTimeout(r, 250));
+    }
+    const cached = await api<{ source: string; items: { id: string }[]; partner: { items: { id: string; affinity: number }[] } }>(
+      'GET',
+      `/api/factor-sets/${answer.body.id}/neighbors?entity=1&k=3`,
+      { token: f.members.viewer.token },
+    );
+    expect(cached.body.source).toBe('exact graph');
+    expect(cached.body.partner.items).toEqual(near.body.partner.items);
   });
 
   it('lists an entity’s nearest neighbours in the latent space, Euclidean or cosine', async () => {

@@ -1,5 +1,6 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { mulberry32, normalGenerator } from '@/lib/align/random';
+import { readMatrix, readMatrixRow } from '@/lib/factor-sets/blocks';
 import { api } from '../support/api';
 import { type RoleFixture, testDb, workspaceWithEveryRole } from '../support/fixtures';
 import { upload, wideCsv } from '../support/uploads';
@@ -80,4 +81,26 @@ describe('the cached neighbour graph', () => {
     expect(many.body.source).toBe('exact search');
     expect(many.body.items).toHaveLength(80);
   }, 60_000);
+});
+
+describe('readMatrixRow', () => {
+  it('reads any row of a matrix stored in several blocks, equal to the whole read', async () => {
+    const f = await workspaceWithEveryRole('Row read fixture');
+    // 66,000 × 16 float32 rows: 65,536 fit in one 4 MiB block, so the rest start a second.
+    const n = 66_000;
+    const d = 16;
+    const random = mulberry32(3);
+    const values = Float32Array.from({ length: n * d }, () => Math.round(random() * 1000) / 8);
+    const created = await upload<{ id: string }>(`/api/workspaces/${f.workspaceId}/factor-sets`, f.members.analyst.token, {
+      file: { content: wideCsv(Array.from({ length: n }, (_, i) => `r${i}`), values, d), filename: 'rows.csv' },
+    });
+    expect(created.status).toBe(201);
+    const blocks = await testDb().selectFrom('factor_set_blocks').select('block').where('factor_set_id', '=', created.body.id).where('kind', '=', 'values').execute();
+    expect(blocks.length).toBeGreaterThan(1);
+    const whole = await readMatrix(testDb(), created.body.id, 'values', n, d);
+    for (const row of [0, 1, 65_535, 65_536, n - 1]) {
+      expect(Array.from(await readMatrixRow(testDb(), created.body.id, 'values', row, d))).toEqual(Array.from(whole.subarray(row * d, (row + 1) * d)));
+    }
+    await expect(readMatrixRow(testDb(), created.body.id, 'values', n, d)).rejects.toThrow(/not stored/);
+  }, 120_000);
 });
