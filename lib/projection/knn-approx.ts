@@ -225,6 +225,7 @@ function isWorkerReply(value: unknown): value is WorkerReply {
  */
 const idleDescentWorkers: Worker[] = [];
 const idleTimers = new Map<Worker, NodeJS.Timeout>();
+const idleExits = new Map<Worker, () => void>();
 export const IDLE_WORKER_MS = 60_000;
 
 /** Idle NN-descent workers (tests and benchmarks). */
@@ -237,21 +238,34 @@ function takeIdleWorker(): Worker | undefined {
   if (worker === undefined) return undefined;
   clearTimeout(idleTimers.get(worker));
   idleTimers.delete(worker);
+  const onExit = idleExits.get(worker);
+  if (onExit) worker.off('exit', onExit);
+  idleExits.delete(worker);
   worker.ref();
   return worker;
+}
+
+function forgetIdle(worker: Worker): void {
+  const at = idleDescentWorkers.indexOf(worker);
+  if (at >= 0) idleDescentWorkers.splice(at, 1);
+  clearTimeout(idleTimers.get(worker));
+  idleTimers.delete(worker);
+  idleExits.delete(worker);
 }
 
 function keepIdle(worker: Worker): void {
   worker.unref();
   idleDescentWorkers.push(worker);
   const timer = setTimeout(() => {
-    const at = idleDescentWorkers.indexOf(worker);
-    if (at >= 0) idleDescentWorkers.splice(at, 1);
-    idleTimers.delete(worker);
+    forgetIdle(worker);
     worker.terminate().catch((error: unknown) => console.error('approximate neighbour search: an idle worker did not stop', error));
   }, IDLE_WORKER_MS);
   timer.unref();
   idleTimers.set(worker, timer);
+  // A worker that dies while idle must not be handed to the next search (it would never answer).
+  const onExit = () => forgetIdle(worker);
+  worker.once('exit', onExit);
+  idleExits.set(worker, onExit);
 }
 
 /** One request to a worker and its answer; rejects if the worker fails or exits first. */

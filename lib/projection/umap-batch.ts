@@ -125,7 +125,12 @@ export class UmapBatchLayout {
     this.layouts = [float64(2 * n, shared), float64(2 * n, shared)];
     this.layouts[0].set(start);
     this.bounds = balancedRanges(rowStart, n, threads);
-    if (shared) this.ready = this.startWorkers(threads);
+    if (shared) {
+      this.ready = this.startWorkers(threads);
+      // Awaited by the first step; handled here too, so that a layout abandoned before its first
+      // step (a job cancelled meanwhile) leaves no unhandled rejection behind.
+      this.ready.catch(() => undefined);
+    }
   }
 
   private startWorkers(threads: number): Promise<void> {
