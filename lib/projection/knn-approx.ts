@@ -155,6 +155,9 @@ export const APPROX_PARALLEL_MIN_POINTS = 10_000;
  */
 const JOIN_BLOCK = 4096;
 
+/** Trees requested from the workers ahead of the one being offered to the heaps (bounds memory). */
+const TREE_LOOKAHEAD = 3;
+
 function integerIn(name: string, value: number, low: number, high: number): number {
   if (!Number.isInteger(value) || value < low || value > high) throw new RangeError(`approximate neighbour search: ${name} must be an integer from ${low} to ${high}, got ${value}`);
   return value;
@@ -239,7 +242,10 @@ function takeIdleWorker(): Worker | undefined {
   clearTimeout(idleTimers.get(worker));
   idleTimers.delete(worker);
   const onExit = idleExits.get(worker);
-  if (onExit) worker.off('exit', onExit);
+  if (onExit) {
+    worker.off('exit', onExit);
+    worker.off('error', onExit);
+  }
   idleExits.delete(worker);
   worker.ref();
   return worker;
@@ -262,9 +268,11 @@ function keepIdle(worker: Worker): void {
   }, IDLE_WORKER_MS);
   timer.unref();
   idleTimers.set(worker, timer);
-  // A worker that dies while idle must not be handed to the next search (it would never answer).
+  // A worker that fails or dies while idle must not be handed to the next search (it would never
+  // answer); an 'error' without a listener would also be thrown in this process.
   const onExit = () => forgetIdle(worker);
   worker.once('exit', onExit);
+  worker.once('error', onExit);
   idleExits.set(worker, onExit);
 }
 
@@ -420,18 +428,32 @@ export async function approxKnn(
   try {
     // Trees: built, and their leaves' pair distances computed, on the workers when there are any
     // (the first tree's here meanwhile); the pairs are offered to the heaps here in tree order.
-    // One tree per request, each worker's in a chain, so that only a few trees' pair lists
-    // (12 bytes per pair, ~n · leafSize / 2 pairs per tree) exist at once.
+    // One tree per request, each worker's in a chain, and a tree is requested only once the tree
+    // TREE_LOOKAHEAD places before it has been offered: at most TREE_LOOKAHEAD + 1 pair lists
+    // (12 bytes per pair, ~n · leafSize / 2 pairs per tree: ~84 MB at 1,000,000 points) exist at
+    // once, however many threads there are.
     const fromWorkers: (Promise<LeafPairs> | undefined)[] = [];
+    const offered: { done: Promise<void>; resolve: () => void }[] = Array.from({ length: nTrees }, () => {
+      let resolve = () => {};
+      const done = new Promise<void>((settle) => {
+        resolve = settle;
+      });
+      return { done, resolve };
+    });
     if (pool) {
+      const lookahead = Math.min(pool.size, TREE_LOOKAHEAD);
       const chains = Array.from({ length: pool.size }, () => Promise.resolve());
       for (let t = 1; t < nTrees; t++) {
         const slot = (t - 1) % pool.size;
-        const pairs = (chains[slot] as Promise<unknown>).then(() => pool.request(slot, { type: 'trees', seeds: [treeSeeds[t]], leafSize })).then((reply) => {
-          const list = reply.pairs?.[0];
-          if (list === undefined) throw new Error('approximate neighbour search: a worker returned no tree');
-          return list;
-        });
+        const before = t - lookahead - 1 >= 0 ? offered[t - lookahead - 1]?.done : undefined;
+        const pairs = (chains[slot] as Promise<unknown>)
+          .then(() => before)
+          .then(() => pool.request(slot, { type: 'trees', seeds: [treeSeeds[t]], leafSize }))
+          .then((reply) => {
+            const list = reply.pairs?.[0];
+            if (list === undefined) throw new Error('approximate neighbour search: a worker returned no tree');
+            return list;
+          });
         // Handled here too: a later tree's failure after an earlier one's must not go unhandled.
         pairs.catch(() => undefined);
         chains[slot] = pairs.then(() => undefined, () => undefined);
@@ -441,6 +463,7 @@ export async function approxKnn(
     const offer = async (pairs: LeafPairs, t: number) => {
       record.distanceEvaluations += pairs.count;
       applyUpdates(keys, ids, fresh, K, pairs.p, pairs.q, pairs.key, pairs.count);
+      offered[t]?.resolve();
       record.trees++;
       report?.((0.2 * (t + 1)) / nTrees, `neighbour graph: tree ${t + 1}/${nTrees}`);
       await pause();

@@ -34,7 +34,7 @@ export interface KnnGraphOptions {
    * benchmarks, or a user who wants the exact graph of a large set and can wait).
    */
   strategy?: KnnStrategy;
-  /** Worker threads, 1–64; default os.availableParallelism() (each search's own default below its size threshold). */
+  /** Worker threads at most, 1–64; default os.availableParallelism(); one below each search's size threshold. */
   threads?: number;
   /** Aborting rejects with the signal's reason. */
   signal?: AbortSignal;
@@ -69,7 +69,8 @@ export async function knnGraph(data: Float32Array, n: number, d: number, k: numb
   const exact = strategy === 'exact' || (strategy === 'auto' && exactIsAffordable(n, d));
   const { signal } = options;
   if (exact) {
-    const threads = options.threads ?? (n >= PARALLEL_EXACT_MIN_POINTS ? undefined : 1);
+    // Below PARALLEL_EXACT_MIN_POINTS one thread is faster, even where more are offered.
+    const threads = n >= PARALLEL_EXACT_MIN_POINTS ? options.threads : 1;
     const graph = await exactKnnParallel(data, n, d, k, metric, { ...(threads !== undefined ? { threads } : {}), ...(signal ? { signal } : {}) });
     return { graph, exact: true };
   }

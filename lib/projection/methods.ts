@@ -23,6 +23,7 @@ import { fitPca, transformPca } from './pca';
 import { sammonAsync } from './sammon';
 import { DRUID_VERSION, runTsne } from './tsne';
 import { DEFAULT_UMAP_ENGINE, runUmap, UMAP_ENGINE_VERSIONS } from './umap';
+import { BATCH_PARALLEL_MIN_POINTS } from './umap-batch';
 
 export type { ProjectionMethod } from './params';
 export {
@@ -65,7 +66,10 @@ export interface ProjectionInput {
    * must have the settings' metric and k ≥ nNeighbors − 1). Computed here when absent.
    */
   knn?: KnnGraph;
-  /** Worker threads for the methods that use them (UMAP's layout); each method's default when absent. */
+  /**
+   * Worker threads at most, for the methods that use them (UMAP's layout, from
+   * BATCH_PARALLEL_MIN_POINTS points: below, one thread is faster); each method's default when absent.
+   */
   threads?: number;
 }
 
@@ -122,7 +126,7 @@ export async function runProjection(input: ProjectionInput): Promise<ProjectionR
     }
     case 'umap': {
       const params = ready(parseProjectionParams('umap', input.params, n));
-      const coordinates = await runUmap({ data, n, d, params, seed, progress, ...(signal ? { signal } : {}), ...(input.knn ? { knn: input.knn } : {}), ...(input.threads !== undefined ? { threads: input.threads } : {}) });
+      const coordinates = await runUmap({ data, n, d, params, seed, progress, ...(signal ? { signal } : {}), ...(input.knn ? { knn: input.knn } : {}), ...(input.threads !== undefined ? { threads: n >= BATCH_PARALLEL_MIN_POINTS ? input.threads : 1 } : {}) });
       result = { coordinates, params: { ...params }, libraryVersion };
       break;
     }

@@ -61,7 +61,7 @@ export function vertexStream(seed, epoch, i) {
  * @property {number} n vertices
  * @property {Int32Array} rowStart n + 1: vertex i's edges are rowStart[i] … rowStart[i + 1] − 1
  * @property {Int32Array} cols edge → other end j
- * @property {Float64Array} perSample edge → epochs between its samples (−1: never)
+ * @property {Float64Array} perSample edge → epochs between its samples (> 0: every edge is sampled)
  * @property {Float64Array} nextSample edge → epoch of its next sample
  * @property {Float64Array} nextNegative edge → epoch of its next negative sample
  * @property {Float64Array} m1 2n, Adam's first moment

@@ -16,8 +16,9 @@
  *
  * Invalidation: a row is used only while its input_checksum equals the factor set's
  * checksum_sha256 (the SHA-256 of the stored values); otherwise it is recomputed and replaced.
- * Deleting a factor set deletes its graphs (foreign key, cascade). Graphs of more than
- * KNN_CACHE_MAX_ENTRIES (n·k) entries are computed but not stored (80 MB per graph at the limit).
+ * A row is also recomputed when its `method` is not the current one (APPROX_GRAPH_VERSION: the
+ * approximate search changed). Deleting a factor set deletes its graphs (foreign key, cascade).
+ * Graphs of more than KNN_CACHE_MAX_ENTRIES (n·k) entries are computed but not stored.
  *
  * Concurrency: two jobs that miss at once both compute the same graph (same input, same seed, so
  * the same bytes), and the second upsert overwrites the first harmlessly.
@@ -34,8 +35,18 @@ export const EXACT_CACHE_K = 50;
 export const APPROX_CACHE_K = 15;
 /** Seed of every cached approximate graph. */
 export const KNN_CACHE_SEED = 20261201;
-/** Largest graph stored, in n·k entries (8 bytes each). */
-export const KNN_CACHE_MAX_ENTRIES = 10_000_000;
+/**
+ * Largest graph stored, in n·k entries (8 bytes each: 160 MB at the limit, e.g. 1,000,000 entities
+ * at k = 20). Larger graphs are computed for each job that needs them and not kept.
+ */
+export const KNN_CACHE_MAX_ENTRIES = 20_000_000;
+/**
+ * Version of the approximate search's arithmetic, part of a cached approximate graph's `method`:
+ * bump it whenever knn-approx.ts would give another graph for the same rows, k and seed, so that
+ * graphs cached before are recomputed instead of mixed with new ones.
+ * 2: candidate priorities hashed per (iteration, point, neighbour); leaf pairs by squaredDistance.
+ */
+export const APPROX_GRAPH_VERSION = 2;
 
 export interface FactorSetForGraph {
   id: string;
@@ -50,7 +61,7 @@ export interface CachedGraph {
   exact: boolean;
   /** Whether it came from the table (false: computed in this call). */
   hit: boolean;
-  /** What to record with a result: "exact" or "NN-descent (seed …)". */
+  /** What to record with a result: "exact" or "NN-descent 2 (seed …)". */
   method: string;
 }
 
@@ -100,7 +111,7 @@ export async function factorSetGraph(
   if (!Number.isInteger(k) || k < 1 || k > n - 1) throw new RangeError(`neighbour graph: k must be an integer from 1 to n − 1 = ${n - 1}, got ${k}`);
   const canonicalK = cachedK(n, d);
   const exact = exactIsAffordable(n, d);
-  const method = exact ? 'exact' : `NN-descent (seed ${KNN_CACHE_SEED})`;
+  const method = exact ? 'exact' : `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`;
   const search = (searchK: number) =>
     knnGraph(values, n, d, searchK, metric, mulberry32(KNN_CACHE_SEED), {
       ...(options.threads !== undefined ? { threads: options.threads } : {}),
@@ -117,7 +128,7 @@ export async function factorSetGraph(
     .where('factor_set_id', '=', factorSet.id)
     .where('metric', '=', metric)
     .executeTakeFirst();
-  if (row && row.input_checksum === factorSet.checksumSha256 && row.n === n && row.k === canonicalK && row.exact === exact && row.seed === KNN_CACHE_SEED) {
+  if (row && row.input_checksum === factorSet.checksumSha256 && row.n === n && row.k === canonicalK && row.exact === exact && row.seed === KNN_CACHE_SEED && row.method === method) {
     const graph: KnnGraph = { n, k: row.k, metric, indices: intsOf(row.indices), distances: floatsOfBytes(row.distances) };
     if (graph.indices.length === n * row.k && graph.distances.length === n * row.k) {
       return { graph: firstNeighbours(graph, k), exact: row.exact, hit: true, method: row.method };
@@ -158,8 +169,8 @@ export interface CachedNeighbourRow {
 /**
  * The first k neighbours of entity `index` from the cached graph of `metric`, when a valid one
  * (input checksum matches) holds at least k neighbours; otherwise undefined (the caller searches).
- * Only that row's bytes leave the database (substring of the bytea), so a query of a
- * 1,000,000-entity set reads k·8 bytes, not the graph.
+ * Only that row's bytes leave the database (substring of the bytea), so a query reads k·8 bytes,
+ * not the graph (graphs up to KNN_CACHE_MAX_ENTRIES are cached: 1,000,000 entities at k = 15).
  */
 export async function cachedNeighbourRow(db: Kysely<Database>, factorSet: FactorSetForGraph, index: number, metric: KnnMetric, k: number): Promise<CachedNeighbourRow | undefined> {
   if (!Number.isInteger(index) || index < 0 || index >= factorSet.rows) throw new RangeError(`neighbour graph: entity index ${index} is out of range`);
@@ -178,6 +189,7 @@ export async function cachedNeighbourRow(db: Kysely<Database>, factorSet: Factor
     .where('metric', '=', metric)
     .executeTakeFirst();
   if (!row || row.input_checksum !== factorSet.checksumSha256 || row.n !== factorSet.rows || row.k < k) return undefined;
+  if (!row.exact && row.method !== `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`) return undefined;
   const indices = intsOf(row.row_indices);
   const distances = floatsOfBytes(row.row_distances);
   if (indices.length !== k || distances.length !== k) return undefined;
