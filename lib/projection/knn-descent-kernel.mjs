@@ -13,7 +13,7 @@
  * Distances: Σ(x_t − y_t)² of the Float32 values, summed in Float64, then stored as Float32.
  */
 import { fmix32 } from './hash-kernel.mjs';
-import { pairKey } from './knn-kernel.mjs';
+import { insertSorted, pairKey } from './knn-kernel.mjs';
 
 // The worker imports the generator from here with the rest of the kernel.
 export { mulberry32 } from './hash-kernel.mjs';
@@ -553,19 +553,10 @@ export function finishRows(heapIds, searchK, original, prepared, norms, d, k, fr
   for (let r = from; r < to; r++) {
     const i = original[r];
     const base = r * searchK;
-    // Insertion sort of the searchK slots by (key, index) (searchK is small).
     for (let s = 0; s < searchK; s++) {
       const slot = heapIds[base + s];
       const id = slot < 0 ? -1 : original[slot];
-      const key = id < 0 ? Infinity : pairKey(prepared, norms, d, i, id);
-      let p = s - 1;
-      while (p >= 0 && (keys[p] > key || (keys[p] === key && ids[p] > id))) {
-        keys[p + 1] = keys[p];
-        ids[p + 1] = ids[p];
-        p--;
-      }
-      keys[p + 1] = key;
-      ids[p + 1] = id;
+      insertSorted(keys, ids, s, id < 0 ? Infinity : pairKey(prepared, norms, d, i, id), id);
     }
     heapKey.set(keys.subarray(0, k), i * k);
     heapIndex.set(ids.subarray(0, k), i * k);

@@ -30,3 +30,4 @@ export declare function finishHeaps(
 ): void;
 export declare function keyRows(x: Float64Array, norms: Float64Array, n: number, d: number, q0: number, q1: number, out: Float64Array): void;
 export declare function keyRowsAt(x: Float64Array, norms: Float64Array, n: number, d: number, ids: ArrayLike<number>, out: Float64Array): void;
+export declare function insertSorted(keys: Float64Array, ids: Int32Array, count: number, key: number, id: number): void;

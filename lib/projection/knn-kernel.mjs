@@ -326,6 +326,26 @@ function offerPair(heapKey, heapIndex, k, i, j, key) {
 }
 
 /**
+ * Inserts (key, id) into keys/ids[0 … count − 1], kept sorted by (key, index): one step of an
+ * insertion sort, for the short neighbour lists (k ≤ a few hundred, often partly ordered).
+ * @param {Float64Array} keys
+ * @param {Int32Array} ids
+ * @param {number} count entries already sorted
+ * @param {number} key
+ * @param {number} id
+ */
+export function insertSorted(keys, ids, count, key, id) {
+  let p = count - 1;
+  while (p >= 0 && (keys[p] > key || (keys[p] === key && ids[p] > id))) {
+    keys[p + 1] = keys[p];
+    ids[p + 1] = ids[p];
+    p--;
+  }
+  keys[p + 1] = key;
+  ids[p + 1] = id;
+}
+
+/**
  * Sorts each point's k kept candidates by (key, index) and writes indices and distances
  * (Euclidean: √key; cosine: key / 2 = 1 − cos θ).
  * @param {Float64Array} heapKey n × k
@@ -342,18 +362,7 @@ export function finishHeaps(heapKey, heapIndex, n, k, metric, indices, distances
   for (let i = 0; i < n; i++) {
     const base = i * k;
     // Insertion sort: k is small (≤ a few hundred) and the heap is already partly ordered.
-    for (let s = 0; s < k; s++) {
-      const key = heapKey[base + s];
-      const id = heapIndex[base + s];
-      let p = s - 1;
-      while (p >= 0 && (keys[p] > key || (keys[p] === key && ids[p] > id))) {
-        keys[p + 1] = keys[p];
-        ids[p + 1] = ids[p];
-        p--;
-      }
-      keys[p + 1] = key;
-      ids[p + 1] = id;
-    }
+    for (let s = 0; s < k; s++) insertSorted(keys, ids, s, heapKey[base + s], heapIndex[base + s]);
     for (let s = 0; s < k; s++) {
       indices[base + s] = ids[s];
       distances[base + s] = metric === METRIC_COSINE ? keys[s] / 2 : Math.sqrt(keys[s]);
