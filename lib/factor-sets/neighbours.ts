@@ -111,7 +111,7 @@ export async function latentNeighbours(
   const withPartner = partnerSet !== undefined && partnerSet.dims === d;
   const cached = await cachedNeighbourRow(db, factorSet, q, metric, wanted);
   // The whole matrix only for a search; the partner's affinities need this entity's row alone.
-  const values = cached ? undefined : await readMatrix(db, factorSet.id, 'values', n, d);
+  let values: Float32Array | undefined;
   let nearest: number[];
   let distanceOf: (i: number) => number;
   if (cached) {
@@ -119,7 +119,7 @@ export async function latentNeighbours(
     const byIndex = new Map(nearest.map((i, s) => [i, cached.distances[s] ?? Number.NaN]));
     distanceOf = (i) => byIndex.get(i) ?? Number.NaN;
   } else {
-    if (!values) throw new Error('neighbours: the factor matrix was not read');
+    values = await readMatrix(db, factorSet.id, 'values', n, d);
     const distances = exactDistancesFrom(values, n, d, q, metric);
     nearest = topK(distances, wanted, false, q);
     distanceOf = (i) => distances[i] ?? Number.NaN;

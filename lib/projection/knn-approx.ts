@@ -65,6 +65,7 @@ import type { UniformGenerator } from '../align/random';
 import { HeapMarks, Updates, applyUpdates, buildCandidates, finishRows, fillRandom, leafPairs, localJoin, markSampled, mulberry32, splitTree, type RpTree } from './knn-descent-kernel.mjs';
 import { finishHeaps, rowNorms } from './knn-kernel.mjs';
 import { type KnnGraph, type KnnMetric, checkMatrix, metricCode, prepareKnnRows } from './knn';
+import { type WorkerReply, askWorker } from './worker-request';
 
 export interface ApproxKnnOptions {
   /**
@@ -203,19 +204,13 @@ interface LeafPairs {
   key: Float32Array;
 }
 
-interface WorkerReply {
-  ok: boolean;
-  message?: string;
+interface DescentReply extends WorkerReply {
   pairs?: LeafPairs[];
   count?: number;
   p?: Int32Array;
   q?: Int32Array;
   key?: Float32Array;
   evaluations?: number;
-}
-
-function isWorkerReply(value: unknown): value is WorkerReply {
-  return typeof value === 'object' && value !== null && typeof (value as { ok?: unknown }).ok === 'boolean';
 }
 
 /**
@@ -276,34 +271,6 @@ function keepIdle(worker: Worker): void {
   idleExits.set(worker, onExit);
 }
 
-/** One request to a worker and its answer; rejects if the worker fails or exits first. */
-function askWorker(worker: Worker, slot: number, message: Record<string, unknown>): Promise<WorkerReply> {
-  return new Promise<WorkerReply>((resolve, reject) => {
-    const done = () => {
-      worker.off('message', onMessage);
-      worker.off('error', onError);
-      worker.off('exit', onExit);
-    };
-    const onError = (error: Error) => {
-      done();
-      reject(error);
-    };
-    const onExit = (code: number) => {
-      done();
-      reject(new Error(`approximate neighbour search: worker ${slot} exited with code ${code}`));
-    };
-    const onMessage = (reply: unknown) => {
-      done();
-      if (!isWorkerReply(reply) || !reply.ok) reject(new Error(`approximate neighbour search: worker ${slot} failed: ${isWorkerReply(reply) ? reply.message : 'bad reply'}`));
-      else resolve(reply);
-    };
-    worker.on('message', onMessage);
-    worker.once('error', onError);
-    worker.once('exit', onExit);
-    worker.postMessage(message);
-  });
-}
-
 /** Worker threads running knn-descent-worker.mjs, one request at a time each. */
 class DescentPool {
   private constructor(private readonly workers: Worker[]) {}
@@ -324,10 +291,10 @@ class DescentPool {
     return this.workers.length;
   }
 
-  request(slot: number, message: Record<string, unknown>): Promise<WorkerReply> {
+  request(slot: number, message: Record<string, unknown>): Promise<DescentReply> {
     const worker = this.workers[slot];
     if (worker === undefined) return Promise.reject(new Error(`approximate neighbour search: no worker ${slot}`));
-    return askWorker(worker, slot, message);
+    return askWorker<DescentReply>(worker, 'approximate neighbour search', slot, message);
   }
 
   /**
@@ -338,7 +305,7 @@ class DescentPool {
     const workers = this.workers.splice(0);
     if (reuse) {
       try {
-        await Promise.all(workers.map((worker, slot) => askWorker(worker, slot, { type: 'release' })));
+        await Promise.all(workers.map((worker, slot) => askWorker(worker, 'approximate neighbour search', slot, { type: 'release' })));
         for (const worker of workers) keepIdle(worker);
         return;
       } catch (error) {

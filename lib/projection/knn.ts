@@ -20,6 +20,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
+import { isWorkerReply } from './worker-request';
 import {
   EMPTY_INDEX,
   METRIC_COSINE,
@@ -169,15 +170,6 @@ export function assignBlockRows(blocks: number, threads: number): number[][] {
     loads[lightest] = (loads[lightest] as number) + (blocks - block);
   }
   return assignment;
-}
-
-interface WorkerReply {
-  ok: boolean;
-  message?: string;
-}
-
-function isWorkerReply(value: unknown): value is WorkerReply {
-  return typeof value === 'object' && value !== null && typeof (value as { ok?: unknown }).ok === 'boolean';
 }
 
 /**

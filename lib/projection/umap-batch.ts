@@ -13,6 +13,7 @@ import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import { type BatchState, batchEpoch } from './umap-batch-kernel.mjs';
 import type { FuzzyGraph } from './umap-kernel';
+import { askWorker } from './worker-request';
 
 /**
  * From this many points the epochs run on worker threads. Below, an epoch takes well under a
@@ -33,15 +34,6 @@ export interface BatchLayoutSettings {
    * else 1 (the calling thread). The result is the same for any count.
    */
   threads?: number;
-}
-
-interface WorkerReply {
-  ok: boolean;
-  message?: string;
-}
-
-function isWorkerReply(value: unknown): value is WorkerReply {
-  return typeof value === 'object' && value !== null && typeof (value as { ok?: unknown }).ok === 'boolean';
 }
 
 /** Float64 view of a fresh buffer, shared when threads will read it. */
@@ -169,20 +161,8 @@ export class UmapBatchLayout {
     return Promise.all(replies).then(() => undefined);
   }
 
-  private request(worker: Worker, slot: number, message: object): Promise<void> {
-    return new Promise<void>((resolve, reject) => {
-      const onExit = (code: number) => reject(new Error(`UMAP batch layout: worker ${slot} exited with code ${code}`));
-      const onError = (error: Error) => reject(error);
-      worker.once('exit', onExit);
-      worker.once('error', onError);
-      worker.once('message', (reply: unknown) => {
-        worker.off('exit', onExit);
-        worker.off('error', onError);
-        if (isWorkerReply(reply) && reply.ok) resolve();
-        else reject(new Error(`UMAP batch layout: worker ${slot} failed: ${isWorkerReply(reply) ? reply.message : 'bad reply'}`));
-      });
-      worker.postMessage(message);
-    });
+  private async request(worker: Worker, slot: number, message: object): Promise<void> {
+    await askWorker(worker, 'UMAP batch layout', slot, message);
   }
 
   /** Epochs run so far. */
