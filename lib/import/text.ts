@@ -221,15 +221,44 @@ export function sniffRows(head: Buffer, delimiter?: Delimiter, maxRows = 200): {
       .filter((line) => !line.startsWith('#'))
       .join('\n');
   }
-  const result = Papa.parse<string[]>(text, {
-    preview: maxRows,
-    skipEmptyLines: true,
-    dynamicTyping: false,
-    ...(delimiter ? { delimiter } : { delimitersToGuess: [...DELIMITERS] }),
-  });
-  const found = result.meta.delimiter;
-  const chosen: Delimiter = delimiter ?? (DELIMITERS.find((d) => d === found) ?? ',');
-  return { rows: result.data, delimiter: chosen };
+  if (delimiter) return { rows: parseSample(text, delimiter, maxRows).rows, delimiter };
+  return guessDelimiter(text, maxRows);
+}
+
+function parseSample(text: string, delimiter: Delimiter, maxRows: number): { rows: string[][]; quoteErrors: number } {
+  const result = Papa.parse<string[]>(text, { preview: maxRows, skipEmptyLines: true, dynamicTyping: false, delimiter });
+  return { rows: result.data, quoteErrors: result.errors.filter((error) => error.type === 'Quotes').length };
+}
+
+/**
+ * Papa Parse's own guess ignores quoting errors: `"a,b";0` made it choose "," and read the whole file
+ * as one broken row. Here every candidate parses the sample, and the one that reads it without quote
+ * errors into the most rows of one width (≥ 2 columns) wins; ties go to the order of DELIMITERS.
+ */
+function guessDelimiter(text: string, maxRows: number): { rows: string[][]; delimiter: Delimiter } {
+  let best: { rows: string[][]; delimiter: Delimiter; score: readonly number[] } | null = null;
+  for (const candidate of DELIMITERS) {
+    const { rows, quoteErrors } = parseSample(text, candidate, maxRows);
+    const widths = new Map<number, number>();
+    for (const row of rows) widths.set(row.length, (widths.get(row.length) ?? 0) + 1);
+    let modalWidth = 0;
+    let modalCount = 0;
+    for (const [width, count] of widths) {
+      if (count > modalCount || (count === modalCount && width > modalWidth)) [modalWidth, modalCount] = [width, count];
+    }
+    const score = [-quoteErrors, modalWidth >= 2 ? 1 : 0, modalCount, modalWidth];
+    if (!best || isBetterScore(score, best.score)) best = { rows, delimiter: candidate, score };
+  }
+  return best ? { rows: best.rows, delimiter: best.delimiter } : { rows: [], delimiter: ',' };
+}
+
+function isBetterScore(score: readonly number[], than: readonly number[]): boolean {
+  for (let index = 0; index < score.length; index++) {
+    const a = score[index] ?? 0;
+    const b = than[index] ?? 0;
+    if (a !== b) return a > b;
+  }
+  return false;
 }
 
 const NON_FINITE_TOKENS = new Set(['nan', '-nan', 'inf', '-inf', '+inf', 'infinity', '-infinity', '+infinity', 'na', 'n/a', 'null', 'none', '#n/a']);

@@ -84,6 +84,16 @@ describe('layout detection and overrides', () => {
     expect(numbered.dims).toBe(2);
   });
 
+  it('guesses the delimiter that reads the file without quote errors (a quoted id holding commas in a ";" file)', async () => {
+    // Found by the round-trip property in CI: Papa Parse's own guess chose "," here and read one broken row.
+    const parsed = await parseFactorFile(file('q.csv', '"a,b";0\nemoji 😀;0\n",";0\n:;0\n'), {}, LIMITS);
+    expect(parsed.ids).toEqual(['a,b', 'emoji 😀', ',', ':']);
+    expect(parsed.dims).toBe(1);
+    const tabs = await parseFactorFile(file('t.tsv', 'id\tf1\tf2\n"x;y"\t1\t2\n"p,q"\t3\t4\n'), {}, LIMITS);
+    expect(tabs.ids).toEqual(['x;y', 'p,q']);
+    expect(tabs.dims).toBe(2);
+  });
+
   it('honours idColumn, labelColumn, header, delimiter and format options', async () => {
     const f = file('o.csv', '1,2,3\n0.5,x,7\n0.25,y,8\n');
     const parsed = await parseFactorFile(f, { header: true, idColumn: '2', delimiter: ',' }, LIMITS);
