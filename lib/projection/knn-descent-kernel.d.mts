@@ -34,6 +34,7 @@ export declare class Updates {
   q: Int32Array;
   key: Float32Array;
   add(p: number, q: number, key: number): void;
+  append(p: Int32Array, q: Int32Array, key: Float32Array, count: number): void;
 }
 export declare class HeapMarks {
   constructor(n: number);
@@ -44,3 +45,23 @@ export declare class HeapMarks {
 export declare function localJoin(x: Float32Array, d: number, keys: Float32Array, ids: Int32Array, K: number, newIds: Int32Array, oldIds: Int32Array, C: number, i0: number, i1: number, out: Updates, marks: HeapMarks): number;
 export declare function applyUpdates(keys: Float32Array, ids: Int32Array, fresh: Uint8Array, K: number, p: Int32Array, q: Int32Array, key: Float32Array, count: number): number;
 export declare function finishRows(heapIds: Int32Array, searchK: number, original: Int32Array, prepared: Float64Array, norms: Float64Array, d: number, k: number, from: number, to: number, heapKey: Float64Array, heapIndex: Int32Array): void;
+/** Byte offsets of one search's arrays in its shared WebAssembly memory (descentLayout). */
+export interface DescentLayout {
+  pages: number;
+  n: number;
+  d: number;
+  K: number;
+  C: number;
+  x: number;
+  keys: number;
+  ids: number;
+  newIds: number;
+  oldIds: number;
+  slots: { stamp: number; outP: number; outQ: number; outKey: number }[];
+  outCap: number;
+}
+export declare function descentLayout(n: number, d: number, K: number, C: number, slots: number, outCap?: number): DescentLayout | null;
+export declare class WasmJoin {
+  constructor(memory: WebAssembly.Memory, layout: DescentLayout, slot: number);
+  join(i0: number, i1: number, out: Updates): number;
+}

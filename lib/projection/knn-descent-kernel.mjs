@@ -10,8 +10,10 @@
  * (Uint8, 1 = not yet used in a local join) at [i·K, (i+1)·K), slot 0 the worst kept. Candidate
  * lists for the local join have C slots per point.
  *
- * Distances: Σ(x_t − y_t)² of the Float32 values, summed in Float64, then stored as Float32.
+ * Distances: Σ(x_t − y_t)² of the Float32 values, summed in Float64, then stored as Float32; the
+ * WebAssembly join at the end of this file (WasmJoin) sums in Float32 lanes instead.
  */
+import { readFileSync } from 'node:fs';
 import { fmix32 } from './hash-kernel.mjs';
 import { insertSorted, pairKey } from './knn-kernel.mjs';
 
@@ -413,6 +415,34 @@ export class Updates {
     this.key[this.count] = key;
     this.count++;
   }
+
+  /**
+   * Appends `count` updates copied from the arrays given.
+   * @param {Int32Array} p
+   * @param {Int32Array} q
+   * @param {Float32Array} key
+   * @param {number} count
+   */
+  append(p, q, key, count) {
+    const needed = this.count + count;
+    if (needed > this.p.length) {
+      let capacity = this.p.length * 2;
+      while (capacity < needed) capacity *= 2;
+      const grownP = new Int32Array(capacity);
+      grownP.set(this.p.subarray(0, this.count));
+      const grownQ = new Int32Array(capacity);
+      grownQ.set(this.q.subarray(0, this.count));
+      const grownKey = new Float32Array(capacity);
+      grownKey.set(this.key.subarray(0, this.count));
+      this.p = grownP;
+      this.q = grownQ;
+      this.key = grownKey;
+    }
+    this.p.set(p.subarray(0, count), this.count);
+    this.q.set(q.subarray(0, count), this.count);
+    this.key.set(key.subarray(0, count), this.count);
+    this.count = needed;
+  }
 }
 
 /**
@@ -560,5 +590,97 @@ export function finishRows(heapIds, searchK, original, prepared, norms, d, k, fr
     }
     heapKey.set(keys.subarray(0, k), i * k);
     heapIndex.set(ids.subarray(0, k), i * k);
+  }
+}
+
+// ---- The local join in WebAssembly ---------------------------------------------------------------
+
+/** @type {WebAssembly.Module | undefined} */
+let joinModule;
+
+/** descent-join.wasm (source: assembly/descent-join.ts), compiled once per thread. */
+function descentJoinModule() {
+  joinModule ??= new WebAssembly.Module(readFileSync(new URL('./descent-join.wasm', import.meta.url)));
+  return joinModule;
+}
+
+/** Bytes below this offset are left to the module (it keeps no data there today). */
+const LAYOUT_START = 65536;
+const WASM_PAGE = 65536;
+const WASM_MAX_PAGES = 65536;
+
+/**
+ * Where one search's arrays lie in its shared WebAssembly memory, in bytes: the rows, the heaps'
+ * keys and ids and the candidate lists, which the join reads, and per joining thread ("slot") a
+ * stamp array (HeapMarks' role) and room for outCap proposals. Null when they would not fit in
+ * WebAssembly's 4 GiB: the search then runs the JavaScript join.
+ * @param {number} n
+ * @param {number} d
+ * @param {number} K
+ * @param {number} C
+ * @param {number} slots
+ * @param {number} [outCap] proposals per call of the kernel (default 2¹⁷, 1.5 MB per thread; at
+ *   least one point's most, C(C − 1)/2 + C², which tests use to make the join resume often)
+ * @returns {import('./knn-descent-kernel.d.mts').DescentLayout | null}
+ */
+export function descentLayout(n, d, K, C, slots, outCap = 1 << 17) {
+  outCap = Math.max(outCap, (C * (C - 1)) / 2 + C * C);
+  let at = LAYOUT_START;
+  /** @param {number} bytes */
+  const take = (bytes) => {
+    const offset = at;
+    at += Math.ceil(bytes / 16) * 16;
+    return offset;
+  };
+  const x = take(n * d * 4);
+  const keys = take(n * K * 4);
+  const ids = take(n * K * 4);
+  const newIds = take(n * C * 4);
+  const oldIds = take(n * C * 4);
+  const perSlot = Array.from({ length: slots }, () => ({ stamp: take(n * 4), outP: take(outCap * 4), outQ: take(outCap * 4), outKey: take(outCap * 4) }));
+  const pages = Math.ceil(at / WASM_PAGE);
+  if (pages > WASM_MAX_PAGES) return null;
+  return { pages, n, d, K, C, x, keys, ids, newIds, oldIds, slots: perSlot, outCap };
+}
+
+/**
+ * One thread's instance of the WebAssembly join over a search's shared memory.
+ */
+export class WasmJoin {
+  /**
+   * @param {WebAssembly.Memory} memory
+   * @param {import('./knn-descent-kernel.d.mts').DescentLayout} layout
+   * @param {number} slot this thread's stamp and output region
+   */
+  constructor(memory, layout, slot) {
+    const region = layout.slots[slot];
+    if (region === undefined) throw new Error(`approximate neighbour search: no memory region for slot ${slot}`);
+    const instance = new WebAssembly.Instance(descentJoinModule(), { env: { memory } });
+    this.exports = /** @type {{ join: (...args: number[]) => number, joinCount: () => number, joinEvaluations: () => number }} */ (/** @type {unknown} */ (instance.exports));
+    this.layout = layout;
+    this.region = region;
+    this.outP = new Int32Array(memory.buffer, region.outP, layout.outCap);
+    this.outQ = new Int32Array(memory.buffer, region.outQ, layout.outCap);
+    this.outKey = new Float32Array(memory.buffer, region.outKey, layout.outCap);
+  }
+
+  /**
+   * localJoin of points i0 … i1 − 1 (same pairs, same order; keys summed in Float32, see
+   * assembly/descent-join.ts), appended to `out`.
+   * @param {number} i0
+   * @param {number} i1
+   * @param {Updates} out
+   * @returns {number} distances computed
+   */
+  join(i0, i1, out) {
+    const { x, d, n, keys, ids, K, newIds, oldIds, C, outCap } = this.layout;
+    const { stamp, outP, outQ, outKey } = this.region;
+    let evaluations = 0;
+    for (let i = i0; i < i1; ) {
+      i = this.exports.join(x, d, n, keys, ids, K, newIds, oldIds, C, i, i1, stamp, outP, outQ, outKey, outCap);
+      evaluations += this.exports.joinEvaluations();
+      out.append(this.outP, this.outQ, this.outKey, this.exports.joinCount());
+    }
+    return evaluations;
   }
 }

@@ -1,11 +1,12 @@
 // @ts-check
 /**
  * Worker thread of the approximate neighbour search (knn-approx.ts). Plain JavaScript for the
- * reason given in knn-kernel.mjs. It sees the rows, the heaps' keys and the candidate lists as
- * SharedArrayBuffers (no copies); it writes only the candidate lists and fresh flags of the points
+ * reason given in knn-kernel.mjs. It sees the rows, the heaps' keys and the candidate lists in the
+ * search's shared WebAssembly memory (or, past 4 GiB, as SharedArrayBuffers; no copies either way)
+ * and joins with the SIMD kernel there (WasmJoin); it writes only the candidate lists and fresh flags of the points
  * it is given, and otherwise only reads; it answers each request with new arrays,
  * transferred back:
- *   { type: 'init', ... }                 → { ok: true }
+ *   { type: 'init', slot, memory, layout, ... } → { ok: true }
  *   { type: 'release' }                    → { ok: true } (drops the search's buffers; idle until the next init)
  *   { type: 'trees', seeds, leafSize }     → { ok: true, pairs: [{ count, p, q, key }] } (leafPairs per tree)
  *   { type: 'candidates', from, to, seed } → { ok: true } (fills the candidate lists of its points)
@@ -14,31 +15,39 @@
  * or { ok: false, message } on failure.
  */
 import { parentPort } from 'node:worker_threads';
-import { HeapMarks, Updates, buildCandidates, leafPairs, localJoin, markSampled, mulberry32, splitTree } from './knn-descent-kernel.mjs';
+import { HeapMarks, Updates, WasmJoin, buildCandidates, leafPairs, localJoin, markSampled, mulberry32, splitTree } from './knn-descent-kernel.mjs';
 
 if (parentPort === null) throw new Error('knn-descent-worker.mjs must be started as a worker thread');
 const port = parentPort;
 
-/** @type {{ x: Float32Array, n: number, d: number, keys: Float32Array, ids: Int32Array, K: number, fresh: Uint8Array, newIds: Int32Array, oldIds: Int32Array, newPri: Float32Array, oldPri: Float32Array, C: number, marks: HeapMarks } | undefined} */
+/** @type {{ x: Float32Array, n: number, d: number, keys: Float32Array, ids: Int32Array, K: number, fresh: Uint8Array, newIds: Int32Array, oldIds: Int32Array, newPri: Float32Array, oldPri: Float32Array, C: number, marks: HeapMarks, wasm: WasmJoin | undefined } | undefined} */
 let shared;
 
 port.on('message', (/** @type {any} */ message) => {
   try {
     if (message.type === 'init') {
+      const { n, d, K, C } = message;
+      // The rows, heaps and candidate lists: in the search's WebAssembly memory, or (past its 4 GiB) as buffers.
+      /** @type {WebAssembly.Memory | undefined} */
+      const memory = message.memory;
+      /** @type {import('./knn-descent-kernel.d.mts').DescentLayout | undefined} */
+      const layout = message.layout;
+      const inMemory = memory !== undefined && layout !== undefined;
       shared = {
-        x: new Float32Array(message.rows),
-        n: message.n,
-        d: message.d,
-        keys: new Float32Array(message.keys),
-        ids: new Int32Array(message.ids),
-        K: message.K,
+        x: inMemory ? new Float32Array(memory.buffer, layout.x, n * d) : new Float32Array(message.rows),
+        n,
+        d,
+        keys: inMemory ? new Float32Array(memory.buffer, layout.keys, n * K) : new Float32Array(message.keys),
+        ids: inMemory ? new Int32Array(memory.buffer, layout.ids, n * K) : new Int32Array(message.ids),
+        K,
         fresh: new Uint8Array(message.fresh),
-        newIds: new Int32Array(message.newIds),
-        oldIds: new Int32Array(message.oldIds),
+        newIds: inMemory ? new Int32Array(memory.buffer, layout.newIds, n * C) : new Int32Array(message.newIds),
+        oldIds: inMemory ? new Int32Array(memory.buffer, layout.oldIds, n * C) : new Int32Array(message.oldIds),
         newPri: new Float32Array(message.newPri),
         oldPri: new Float32Array(message.oldPri),
-        C: message.C,
-        marks: new HeapMarks(message.n),
+        C,
+        marks: new HeapMarks(n),
+        wasm: inMemory ? new WasmJoin(memory, layout, message.slot) : undefined,
       };
       port.postMessage({ ok: true });
       return;
@@ -76,7 +85,9 @@ port.on('message', (/** @type {any} */ message) => {
     }
     if (message.type === 'join') {
       const out = new Updates();
-      const evaluations = localJoin(shared.x, shared.d, shared.keys, shared.ids, shared.K, shared.newIds, shared.oldIds, shared.C, message.i0, message.i1, out, shared.marks);
+      const evaluations = shared.wasm
+        ? shared.wasm.join(message.i0, message.i1, out)
+        : localJoin(shared.x, shared.d, shared.keys, shared.ids, shared.K, shared.newIds, shared.oldIds, shared.C, message.i0, message.i1, out, shared.marks);
       const p = out.p.slice(0, out.count);
       const q = out.q.slice(0, out.count);
       const key = out.key.slice(0, out.count);

@@ -45,8 +45,9 @@ export const KNN_CACHE_MAX_ENTRIES = 20_000_000;
  * bump it whenever knn-approx.ts would give another graph for the same rows, k and seed, so that
  * graphs cached before are recomputed instead of mixed with new ones.
  * 2: candidate priorities hashed per (iteration, point, neighbour); leaf pairs by squaredDistance.
+ * 3: the local join in WebAssembly, its distances summed in Float32 (descent-join.wasm).
  */
-export const APPROX_GRAPH_VERSION = 2;
+export const APPROX_GRAPH_VERSION = 3;
 
 export interface FactorSetForGraph {
   id: string;
