@@ -53,8 +53,8 @@
  * kept from an earlier search, see IDLE_WORKER_MS; pynndescent warmed likewise), on an otherwise
  * idle two-core machine; seeded mixtures of 20 Gaussian clusters, the hardest kind of data for any
  * neighbour search since each cluster fills all 32 dimensions):
- *   10,000 × 32: recall 0.995 in 0.33 s; pynndescent 0.5.8 (n_jobs 2): 0.988 in 0.33–0.38 s.
- *   50,000 × 32: recall 0.963 in 2.2 s;  pynndescent: 0.939 in 2.1–2.2 s; exact search 11.3 s.
+ *   10,000 × 32: recall 0.994 in 0.26 s; pynndescent 0.5.8 (n_jobs 2): 0.988 in 0.26 s.
+ *   50,000 × 32: recall 0.962 in 1.73 s; pynndescent: 0.939 in 2.17 s; exact search 11.3 s.
  * A cold search (fresh threads) costs ~0.1 s more for the threads plus slower first trees while
  * their code compiles (10,000 × 32: 0.7 s). Real factor sets, whose variance falls off over the
  * dimensions, give higher recall.
