@@ -68,6 +68,25 @@ function boundedSquaredDistance(a: usize, b: usize, d: i32, limit: f32): f32 {
   return sum;
 }
 
+/** Scores the pair (p, q) and writes it out when it beats either point's worst. */
+@inline
+function propose(
+  p: i32, pRow: usize, worstP: f32, q: i32,
+  x: usize, rowBytes: usize, d: i32, keys: usize, K: i32,
+  outP: usize, outQ: usize, outKey: usize,
+): void {
+  const worstQ = load<f32>(keys + (<usize>q * <usize>K << 2));
+  const key = boundedSquaredDistance(pRow, x + <usize>q * rowBytes, d, worstP > worstQ ? worstP : worstQ);
+  evaluationCount++;
+  if (key < worstP || key < worstQ) {
+    const o = <usize>proposalCount << 2;
+    store<i32>(outP + o, p);
+    store<i32>(outQ + o, q);
+    store<f32>(outKey + o, key);
+    proposalCount++;
+  }
+}
+
 /**
  * The local join of points i0 … i1 − 1 against the heaps as they stand (read only): new × new
  * candidates (each unordered pair once) and new × old, skipping pairs already in the first point's
@@ -111,30 +130,12 @@ export function join(
       for (let b = a + 1; b < C; b++) {
         const q = load<i32>(newIds + cBase + (<usize>b << 2));
         if (q < 0 || load<i32>(stamp + (<usize>q << 2)) == inP) continue;
-        const worstQ = load<f32>(keys + (<usize>q * <usize>K << 2));
-        const key = boundedSquaredDistance(pRow, x + <usize>q * rowBytes, d, worstP > worstQ ? worstP : worstQ);
-        evaluationCount++;
-        if (key < worstP || key < worstQ) {
-          const o = <usize>proposalCount << 2;
-          store<i32>(outP + o, p);
-          store<i32>(outQ + o, q);
-          store<f32>(outKey + o, key);
-          proposalCount++;
-        }
+        propose(p, pRow, worstP, q, x, rowBytes, d, keys, K, outP, outQ, outKey);
       }
       for (let b = 0; b < C; b++) {
         const q = load<i32>(oldIds + cBase + (<usize>b << 2));
         if (q < 0 || q == p || load<i32>(stamp + (<usize>q << 2)) == inP) continue;
-        const worstQ = load<f32>(keys + (<usize>q * <usize>K << 2));
-        const key = boundedSquaredDistance(pRow, x + <usize>q * rowBytes, d, worstP > worstQ ? worstP : worstQ);
-        evaluationCount++;
-        if (key < worstP || key < worstQ) {
-          const o = <usize>proposalCount << 2;
-          store<i32>(outP + o, p);
-          store<i32>(outQ + o, q);
-          store<f32>(outKey + o, key);
-          proposalCount++;
-        }
+        propose(p, pRow, worstP, q, x, rowBytes, d, keys, K, outP, outQ, outKey);
       }
     }
   }
