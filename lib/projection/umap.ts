@@ -144,7 +144,7 @@ export const DEFAULT_UMAP_ENGINE: UmapEngine = 'batch';
  * it has a string of its own; bump its number when its arithmetic changes.
  */
 export const UMAP_ENGINE_VERSIONS: Record<UmapEngine, string> = {
-  batch: `asterism umap-batch 1 (Adam, per-vertex streams; umap-js ${UMAP_JS_VERSION} graph and gradients)`,
+  batch: `asterism umap-batch 2 (Adam, per-vertex streams, polynomial powers; umap-js ${UMAP_JS_VERSION} graph and gradients)`,
   asterism: `asterism umap-kernel 1 (umap-js ${UMAP_JS_VERSION} algorithm)`,
   'umap-js': `umap-js ${UMAP_JS_VERSION}`,
 };

@@ -49,6 +49,9 @@ export const KNN_CACHE_MAX_ENTRIES = 20_000_000;
  */
 export const APPROX_GRAPH_VERSION = 3;
 
+/** The `method` a current approximate graph is stored under; rows with another are recomputed. */
+const APPROX_METHOD = `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`;
+
 export interface FactorSetForGraph {
   id: string;
   checksumSha256: string;
@@ -112,7 +115,7 @@ export async function factorSetGraph(
   if (!Number.isInteger(k) || k < 1 || k > n - 1) throw new RangeError(`neighbour graph: k must be an integer from 1 to n − 1 = ${n - 1}, got ${k}`);
   const canonicalK = cachedK(n, d);
   const exact = exactIsAffordable(n, d);
-  const method = exact ? 'exact' : `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`;
+  const method = exact ? 'exact' : APPROX_METHOD;
   const search = (searchK: number) =>
     knnGraph(values, n, d, searchK, metric, mulberry32(KNN_CACHE_SEED), {
       ...(options.threads !== undefined ? { threads: options.threads } : {}),
@@ -190,7 +193,7 @@ export async function cachedNeighbourRow(db: Kysely<Database>, factorSet: Factor
     .where('metric', '=', metric)
     .executeTakeFirst();
   if (!row || row.input_checksum !== factorSet.checksumSha256 || row.n !== factorSet.rows || row.k < k) return undefined;
-  if (!row.exact && row.method !== `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`) return undefined;
+  if (!row.exact && row.method !== APPROX_METHOD) return undefined;
   const indices = intsOf(row.row_indices);
   const distances = floatsOfBytes(row.row_distances);
   if (indices.length !== k || distances.length !== k) return undefined;

@@ -125,6 +125,6 @@ describe('projection settings', () => {
     expect(version('umap-js')).toBe(UMAP_JS_VERSION);
     expect(version('@saehrimnir/druidjs')).toBe(DRUID_VERSION);
     expect(DRUID_REPORTED_VERSION).toBe(DRUID_VERSION);
-    expect(PROJECTION_LIBRARY_VERSIONS).toEqual({ pca: 'asterism pca', umap: 'asterism umap-batch 1 (Adam, per-vertex streams; umap-js 1.4.0 graph and gradients)', sammon: 'asterism sammon', tsne: '@saehrimnir/druidjs 0.9.0' });
+    expect(PROJECTION_LIBRARY_VERSIONS).toEqual({ pca: 'asterism pca', umap: 'asterism umap-batch 2 (Adam, per-vertex streams, polynomial powers; umap-js 1.4.0 graph and gradients)', sammon: 'asterism sammon', tsne: '@saehrimnir/druidjs 0.9.0' });
   });
 });

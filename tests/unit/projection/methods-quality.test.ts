@@ -36,7 +36,7 @@ describe('UMAP on a seeded Gaussian mixture (3 × 100 points, 10-D)', () => {
     expect(t15).toBeGreaterThanOrEqual(0.9);
     expect(sameClusterNeighbourShare(result.coordinates)).toBe(1);
     expect(result.params).toEqual({ nNeighbors: 15, minDist: 0.1, spread: 1, nEpochs: 500, metric: 'euclidean', init: 'pca' });
-    expect(result.libraryVersion).toBe('asterism umap-batch 1 (Adam, per-vertex streams; umap-js 1.4.0 graph and gradients)');
+    expect(result.libraryVersion).toBe('asterism umap-batch 2 (Adam, per-vertex streams, polynomial powers; umap-js 1.4.0 graph and gradients)');
   });
 
   it('a shared graph with more neighbours (k = 50) gives the same layout as one computed for it', async () => {

@@ -3,7 +3,7 @@
  * umap-js 1.4.0 (engine 'umap-js', issue 4's reference implementation) on the same neighbour graph
  * and start: trustworthiness at 15 within 0.005 on the digits data scikit-learn ships and on a
  * seeded mixture, as means over three seeds (one seed's T(15) moves by a few thousandths with the
- * seed for either engine). Plus: the same bits for 1, 2 and 3 threads, determinism, the balanced
+ * seed for either engine). Plus: the power approximation of the kernel, the same bits for 1, 2 and 3 threads, determinism, the balanced
  * split, and cancellation with the worker threads stopped.
  */
 import { describe, expect, it } from 'vitest';
@@ -11,6 +11,7 @@ import { ProgressReporter } from '@/lib/projection/job-control';
 import type { UmapParams } from '@/lib/projection/params';
 import type { UmapEngine } from '@/lib/projection/umap';
 import { balancedRanges } from '@/lib/projection/umap-batch';
+import { fastPower } from '@/lib/projection/umap-batch-kernel.mjs';
 import { bitIdentical, gaussianMixture } from './methods-fixtures';
 import { digitsData } from './pca-fixtures';
 import { UMAP_TEST_PARAMS as PARAMS, expectTrustworthinessLikeUmapJs as compare, umapLayout } from './umap-fixtures';
@@ -43,6 +44,22 @@ describe('batch UMAP layout', () => {
     expect(bitIdentical(one, three)).toBe(true);
     expect(bitIdentical(one, other)).toBe(false);
   }, 60_000);
+
+  it('fastPower matches Math.pow within 1e-5 (relative) over the distances and curve shapes a layout meets', () => {
+    let worst = 0;
+    for (const b of [0.5, 0.79, 0.9, 1, 1.3, 1.93, 2]) {
+      for (let e = -12; e <= 12; e += 0.01) {
+        const x = 10 ** e;
+        const exact = Math.pow(x, b);
+        worst = Math.max(worst, Math.abs(fastPower(x, b) / exact - 1));
+      }
+      // Mantissa 1 exactly, where the polynomial's ends meet.
+      for (const x of [0.5, 1, 2, 1024]) worst = Math.max(worst, Math.abs(fastPower(x, b) / Math.pow(x, b) - 1));
+    }
+    expect(worst).toBeLessThan(1e-5);
+    expect(fastPower(1e300, 4)).toBe(Infinity);
+    expect(fastPower(1e-300, 4)).toBe(0);
+  });
 
   it('splits vertices into ranges of about equal edge counts', () => {
     // Vertex degrees 10, 0, 5, 5, 10, 10: 40 edges.
