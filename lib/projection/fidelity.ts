@@ -31,7 +31,8 @@
  * queries cost O(m·n·d)); neighbour preservation, Shepard ρ and stress are O(n·k) or O(pairs).
  */
 import type { UniformGenerator } from '../align/random';
-import { keyRows, keyRowsAt, rowNorms } from './knn-kernel.mjs';
+import { keyRowsAt, rowNorms } from './knn-kernel.mjs';
+import { addRankPenalties, rankPenaltyRange, rankScratch } from './rank-kernel.mjs';
 import { type KnnGraph, type KnnMetric, checkMatrix, exactKnn, prepareKnnRows } from './knn';
 
 /** The k of trustworthiness and continuity stored with a projection (issue 4). */
@@ -40,9 +41,6 @@ export const FIDELITY_KS: readonly number[] = [5, 15, 50];
 export const PRESERVATION_K = 15;
 /** Default number of sampled pairs for the Shepard correlation and stress. */
 export const DEFAULT_PAIR_SAMPLE = 50_000;
-
-/** Query rows whose distance rows are computed together: 16 × n × 8 bytes of scratch. */
-const QUERY_BLOCK = 16;
 
 export interface RankOptions {
   /**
@@ -94,26 +92,14 @@ function checkGraph(what: string, graph: KnnGraph, n: number, k: number, metric:
 
 /**
  * For each k in ks, Σ_i Σ_{s<k} max(0, r(i, neighbours_i[s]) − k), where r ranks by the keys of
- * `rows` (prepared as knn.ts does) and neighbours come from `graph` (another space).
- * Ranks are exact: r(i, j) = 1 + #{l ≠ i : (key(i,l), l) < (key(i,j), j)}.
+ * `rows` (prepared as knn.ts does) and neighbours come from `graph` (another space); on this
+ * thread (fidelity-parallel.ts spreads the same sums over worker threads).
  */
 function rankPenalties(rows: Float64Array, n: number, d: number, graph: KnnGraph, ks: readonly number[], onProgress?: (fraction: number) => void): Float64Array {
-  const kMax = Math.max(...ks);
-  const stride = graph.k;
-  const scratch = new Float64Array(QUERY_BLOCK * n);
-  const ranks = rankScratch(kMax);
   const sums = new Float64Array(ks.length);
   const norms = new Float64Array(n);
   rowNorms(rows, n, d, norms);
-  for (let q0 = 0; q0 < n; q0 += QUERY_BLOCK) {
-    const q1 = Math.min(n, q0 + QUERY_BLOCK);
-    keyRows(rows, norms, n, d, q0, q1, scratch);
-    for (let i = q0; i < q1; i++) {
-      const keys = scratch.subarray((i - q0) * n, (i - q0 + 1) * n);
-      addRankPenalties(keys, n, i, graph.indices.subarray(i * stride, i * stride + kMax), ks, kMax, ranks, sums);
-    }
-    onProgress?.(q1 / n);
-  }
+  rankPenaltyRange(rows, norms, n, d, graph.indices, graph.k, ks, 0, n, sums, onProgress && ((done) => onProgress(done / n)));
   return sums;
 }
 
@@ -436,9 +422,79 @@ export interface ProjectionFidelityOptions extends DistanceFidelityOptions, Rank
   mapKnn?: KnnGraph;
 }
 
+/** Settings of one projection's scores, shared by projectionFidelity and fidelity-parallel.ts. */
+export interface FidelityPlan {
+  metric: KnnMetric;
+  mapDims: number;
+  /** Every k asked for (the scores are aligned with these). */
+  ks: Int32Array;
+  /** The ks below n/2, where T and C are defined. */
+  validKs: number[];
+  preservationK: number;
+  /** Neighbours each kNN graph needs. */
+  graphK: number;
+}
+
+export function fidelityPlan(n: number, map: Float32Array, options: ProjectionFidelityOptions = {}): FidelityPlan {
+  const mapDims = options.mapDims ?? 2;
+  checkMatrix('fidelity: map', map, n, mapDims);
+  const allKs = options.ks ?? FIDELITY_KS;
+  const preservationK = options.preservationK ?? PRESERVATION_K;
+  const validKs = allKs.filter((k) => Number.isInteger(k) && k >= 1 && k < n / 2);
+  const graphK = Math.min(n - 1, Math.max(preservationK, ...validKs));
+  return { metric: options.metric ?? 'euclidean', mapDims, ks: Int32Array.from(allKs), validKs, preservationK, graphK };
+}
+
+/** Rank penalty sums of trustworthiness and continuity, aligned with plan.validKs. */
+export interface RankSums {
+  trust: Float64Array;
+  continuity: Float64Array;
+}
+
+/**
+ * The scores from the rank sums (undefined when no k is valid) and the two graphs: T, C, neighbour
+ * preservation and the distance scores (`random` drives only their pair sample).
+ */
+export function fidelityFromSums(
+  latent: Float32Array,
+  n: number,
+  d: number,
+  map: Float32Array,
+  random: UniformGenerator,
+  plan: FidelityPlan,
+  graphs: { latentKnn: KnnGraph; mapKnn: KnnGraph },
+  sums: RankSums | undefined,
+  maxPairs?: number,
+): ProjectionFidelity {
+  const { ks, validKs, preservationK, graphK, metric, mapDims } = plan;
+  const trust = new Float64Array(ks.length).fill(Number.NaN);
+  const cont = new Float64Array(ks.length).fill(Number.NaN);
+  if (sums) {
+    const t = normalise(sums.trust, n, validKs);
+    const c = normalise(sums.continuity, n, validKs);
+    for (let index = 0; index < ks.length; index++) {
+      const position = validKs.indexOf(ks[index] as number);
+      if (position >= 0) {
+        trust[index] = t[position] as number;
+        cont[index] = c[position] as number;
+      }
+    }
+  }
+  const preserved = preservationK <= graphK ? neighbourPreservation(graphs.latentKnn, graphs.mapKnn, preservationK) : { mean: Number.NaN, perPoint: new Float32Array(n) };
+  const distances = distanceFidelity(latent, n, d, map, random, { metric, mapDims, maxPairs });
+  return { ks, trustworthiness: trust, continuity: cont, knnPreservation: preserved.mean, perPoint: preserved.perPoint, ...distances };
+}
+
+/** Checks both graphs against the plan before any rank work. */
+export function checkFidelityGraphs(plan: FidelityPlan, n: number, latentKnn: KnnGraph, mapKnn: KnnGraph): void {
+  checkGraph('the latent kNN graph', latentKnn, n, plan.graphK, plan.metric);
+  checkGraph('the map kNN graph', mapKnn, n, plan.graphK, 'euclidean');
+}
+
 /**
  * Every fidelity score of one projection, computing each kNN graph once (or reusing the given
- * ones). `random` drives only the pair sample. For small factor sets (e.g. 40 categories) the ks
+ * ones), on this thread; fidelity-parallel.ts computes the same scores, bit for bit, on worker
+ * threads. `random` drives only the pair sample. For small factor sets (e.g. 40 categories) the ks
  * that are not below n/2 come back NaN rather than failing the projection.
  */
 export function projectionFidelity(
@@ -449,33 +505,20 @@ export function projectionFidelity(
   random: UniformGenerator,
   options: ProjectionFidelityOptions = {},
 ): ProjectionFidelity {
-  const metric = options.metric ?? 'euclidean';
-  const mapDims = options.mapDims ?? 2;
-  const allKs = options.ks ?? FIDELITY_KS;
-  const preservationK = options.preservationK ?? PRESERVATION_K;
-  const validKs = allKs.filter((k) => Number.isInteger(k) && k >= 1 && k < n / 2);
-  const graphK = Math.min(n - 1, Math.max(preservationK, ...validKs));
-  const latentKnn = options.latentKnn ?? exactKnn(latent, n, d, graphK, metric);
-  const mapKnn = options.mapKnn ?? exactKnn(map, n, mapDims, graphK, 'euclidean');
-  const ks = Int32Array.from(allKs);
-  const trust = new Float64Array(ks.length).fill(Number.NaN);
-  const cont = new Float64Array(ks.length).fill(Number.NaN);
-  if (validKs.length > 0) {
+  const plan = fidelityPlan(n, map, options);
+  const latentKnn = options.latentKnn ?? exactKnn(latent, n, d, plan.graphK, plan.metric);
+  const mapKnn = options.mapKnn ?? exactKnn(map, n, plan.mapDims, plan.graphK, 'euclidean');
+  checkFidelityGraphs(plan, n, latentKnn, mapKnn);
+  let sums: RankSums | undefined;
+  if (plan.validKs.length > 0) {
     // Each half of the rank work reports half of the progress.
     const progress = options.onProgress;
-    const t = trustworthiness(latent, n, d, map, validKs, { metric, mapDims, mapKnn, onProgress: progress && ((f) => progress(f / 2)) });
-    const c = continuity(latent, n, d, map, validKs, { metric, mapDims, latentKnn, onProgress: progress && ((f) => progress(0.5 + f / 2)) });
-    for (let index = 0; index < ks.length; index++) {
-      const position = validKs.indexOf(ks[index] as number);
-      if (position >= 0) {
-        trust[index] = t[position] as number;
-        cont[index] = c[position] as number;
-      }
-    }
+    sums = {
+      trust: rankPenalties(prepareKnnRows(latent, n, d, plan.metric), n, d, mapKnn, plan.validKs, progress && ((f) => progress(f / 2))),
+      continuity: rankPenalties(prepareKnnRows(map, n, plan.mapDims, 'euclidean'), n, plan.mapDims, latentKnn, plan.validKs, progress && ((f) => progress(0.5 + f / 2))),
+    };
   }
-  const preserved = preservationK <= graphK ? neighbourPreservation(latentKnn, mapKnn, preservationK) : { mean: Number.NaN, perPoint: new Float32Array(n) };
-  const distances = distanceFidelity(latent, n, d, map, random, { metric, mapDims, maxPairs: options.maxPairs });
-  return { ks, trustworthiness: trust, continuity: cont, knnPreservation: preserved.mean, perPoint: preserved.perPoint, ...distances };
+  return fidelityFromSums(latent, n, d, map, random, plan, { latentKnn, mapKnn }, sums, options.maxPairs);
 }
 
 /**
@@ -497,69 +540,6 @@ function nearestByKey(keys: Float64Array, n: number, i: number, kMax: number, ou
     outKey[p] = key;
     outId[p] = l;
   }
-}
-
-/**
- * Adds to sums[index] Σ_{s < ks[index]} max(0, r(neighbours[s]) − ks[index]) for one query point i,
- * where r ranks by `keys` (another space than the one the neighbours come from):
- * r(j) = 1 + #{l ≠ i : (key_l, l) < (key_j, j)}, counted in one pass with a binary search among
- * the neighbours sorted by key (as rankPenalties does for the exact scores).
- */
-function addRankPenalties(keys: Float64Array, n: number, i: number, neighbours: Int32Array, ks: readonly number[], kMax: number, scratch: RankScratch, sums: Float64Array): void {
-  const { sortedKey, sortedId, sortedPos, counts } = scratch;
-  for (let s = 0; s < kMax; s++) {
-    const id = neighbours[s] as number;
-    const key = keys[id] as number;
-    let p = s - 1;
-    while (p >= 0 && ((sortedKey[p] as number) > key || ((sortedKey[p] as number) === key && (sortedId[p] as number) > id))) {
-      sortedKey[p + 1] = sortedKey[p] as number;
-      sortedId[p + 1] = sortedId[p] as number;
-      sortedPos[p + 1] = sortedPos[p] as number;
-      p--;
-    }
-    sortedKey[p + 1] = key;
-    sortedId[p + 1] = id;
-    sortedPos[p + 1] = s;
-  }
-  counts.fill(0);
-  const lastKey = sortedKey[kMax - 1] as number;
-  const lastId = sortedId[kMax - 1] as number;
-  for (let l = 0; l < n; l++) {
-    if (l === i) continue;
-    const key = keys[l] as number;
-    if (key > lastKey || (key === lastKey && l >= lastId)) continue;
-    let lo = 0;
-    let hi = kMax - 1;
-    while (lo < hi) {
-      const mid = (lo + hi) >> 1;
-      const mk = sortedKey[mid] as number;
-      if (key < mk || (key === mk && l < (sortedId[mid] as number))) hi = mid;
-      else lo = mid + 1;
-    }
-    counts[lo] = (counts[lo] as number) + 1;
-  }
-  let preceding = 0;
-  for (let p = 0; p < kMax; p++) {
-    preceding += counts[p] as number;
-    const rank = 1 + preceding;
-    const position = sortedPos[p] as number;
-    for (let index = 0; index < ks.length; index++) {
-      const k = ks[index] as number;
-      if (position < k && rank > k) sums[index] = (sums[index] as number) + (rank - k);
-    }
-  }
-}
-
-/** One point's neighbours sorted by (key, index): keys, indices, list positions; and counts[p], the points that precede sorted neighbour p but not p − 1. */
-interface RankScratch {
-  sortedKey: Float64Array;
-  sortedId: Int32Array;
-  sortedPos: Int32Array;
-  counts: Int32Array;
-}
-
-function rankScratch(kMax: number): RankScratch {
-  return { sortedKey: new Float64Array(kMax), sortedId: new Int32Array(kMax), sortedPos: new Int32Array(kMax), counts: new Int32Array(kMax + 1) };
 }
 
 export interface SampledRankScores {

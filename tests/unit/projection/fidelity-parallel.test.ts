@@ -1,0 +1,67 @@
+/**
+ * projectionFidelityParallel (lib/projection/fidelity-parallel.ts) gives projectionFidelity's
+ * scores bit for bit on any number of threads (the single-thread scores are checked against
+ * scikit-learn in fidelity-reference.test.ts), reports progress while it runs, and stops when
+ * cancelled or when its progress callback throws.
+ */
+import { describe, expect, it } from 'vitest';
+import { mulberry32, normalGenerator } from '@/lib/align/random';
+import { type ProjectionFidelity, projectionFidelity } from '@/lib/projection/fidelity';
+import { PARALLEL_FIDELITY_MIN_POINTS, projectionFidelityParallel } from '@/lib/projection/fidelity-parallel';
+import { gaussianMixture } from './methods-fixtures';
+
+/** A map that keeps the clusters but scrambles a share of the points, so every score is away from 1. */
+function noisyMap(labels: Int32Array, seed: number): Float32Array {
+  const normal = normalGenerator(mulberry32(seed));
+  const map = new Float32Array(labels.length * 2);
+  for (let i = 0; i < labels.length; i++) {
+    const c = labels[i] as number;
+    map[2 * i] = 5 * Math.cos(c) + normal();
+    map[2 * i + 1] = 5 * Math.sin(c) + normal();
+  }
+  return map;
+}
+
+function expectSame(a: ProjectionFidelity, b: ProjectionFidelity): void {
+  expect(Array.from(b.trustworthiness)).toEqual(Array.from(a.trustworthiness));
+  expect(Array.from(b.continuity)).toEqual(Array.from(a.continuity));
+  expect(Array.from(b.ks)).toEqual(Array.from(a.ks));
+  expect(b.knnPreservation).toBe(a.knnPreservation);
+  expect(Array.from(b.perPoint)).toEqual(Array.from(a.perPoint));
+  expect([b.shepardRho, b.stress, b.pairs]).toEqual([a.shepardRho, a.stress, a.pairs]);
+}
+
+describe('fidelity scores on worker threads', () => {
+  const { data, n, d, labels } = gaussianMixture(11, 4, 600, 12);
+  const map = noisyMap(labels, 12);
+
+  it('equal the single-thread scores bit for bit on 2 and 3 threads (Euclidean and cosine)', async () => {
+    expect(n).toBeGreaterThanOrEqual(PARALLEL_FIDELITY_MIN_POINTS);
+    for (const metric of ['euclidean', 'cosine'] as const) {
+      const one = projectionFidelity(data, n, d, map, mulberry32(5), { metric });
+      expect(one.trustworthiness[1]).toBeLessThan(0.99);
+      for (const threads of [2, 3]) expectSame(one, await projectionFidelityParallel(data, n, d, map, mulberry32(5), { metric, threads }));
+    }
+  }, 120_000);
+
+  it('reports rising progress that ends at 1', async () => {
+    const seen: number[] = [];
+    await projectionFidelityParallel(data, n, d, map, mulberry32(5), { threads: 2, onProgress: (f) => seen.push(f) });
+    expect(seen.at(-1)).toBe(1);
+    for (let s = 1; s < seen.length; s++) expect(seen[s] as number).toBeGreaterThanOrEqual(seen[s - 1] as number);
+  }, 60_000);
+
+  it('rejects with the signal’s reason when cancelled, and with the error its progress callback throws', async () => {
+    const controller = new AbortController();
+    setTimeout(() => controller.abort(new Error('cancelled by the test')), 30);
+    await expect(projectionFidelityParallel(data, n, d, map, mulberry32(5), { threads: 2, signal: controller.signal })).rejects.toThrow('cancelled by the test');
+    await expect(
+      projectionFidelityParallel(data, n, d, map, mulberry32(5), {
+        threads: 2,
+        onProgress: () => {
+          throw new Error('stop here');
+        },
+      }),
+    ).rejects.toThrow('stop here');
+  }, 60_000);
+});
