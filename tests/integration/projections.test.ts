@@ -1,4 +1,5 @@
 import { beforeAll, describe, expect, it } from 'vitest';
+import { projectionFidelity } from '@/lib/projection/fidelity';
 import { fitPca, transformPca } from '@/lib/projection/pca';
 import { mulberry32, normalGenerator } from '@/lib/align/random';
 import { api } from '../support/api';
@@ -217,6 +218,28 @@ describe('projections on the job queue', () => {
     expect((await api('DELETE', `/api/projections/${one?.id}`, { token: f.members.expert.token })).status).toBe(403);
     expect((await api('GET', `/api/projections/${one?.id}`, { token: f.outsider.token })).status).toBe(404);
   });
+});
+
+describe('exact fidelity scores of a set large enough for worker threads', () => {
+  it('stores the scores projectionFidelity gives for the stored values and coordinates (one thread)', async () => {
+    const f = await workspaceWithEveryRole('Scored projection fixture');
+    const n = 3000;
+    const d = 6;
+    const created = await upload<{ id: string }>(`/api/workspaces/${f.workspaceId}/factor-sets`, f.members.analyst.token, {
+      file: { content: wideCsv(Array.from({ length: n }, (_, i) => `s${i}`), mixture(n, d, 21), d), filename: 'scored.csv' },
+    });
+    expect(created.status).toBe(201);
+    const queued = await api<{ id: string }>('POST', `/api/factor-sets/${created.body.id}/projections`, { token: f.members.analyst.token, body: { method: 'pca', params: {}, seed: 4 } });
+    const done = await until(queued.body.id, f.members.viewer.token, finished, 120_000);
+    expect(done.status, done.error ?? '').toBe('done');
+    const values = await binary(`/api/factor-sets/${created.body.id}/values`, f.members.viewer.token);
+    const coords = await binary(`/api/projections/${done.id}/coords`, f.members.viewer.token);
+    const expected = projectionFidelity(values, n, d, coords, mulberry32(4));
+    expect(done.quality?.trustworthiness).toEqual({ '5': expected.trustworthiness[0], '15': expected.trustworthiness[1], '50': expected.trustworthiness[2] });
+    expect(done.quality?.continuity).toEqual({ '5': expected.continuity[0], '15': expected.continuity[1], '50': expected.continuity[2] });
+    expect([done.quality?.knnPreservation, done.quality?.shepardRho, done.quality?.stress]).toEqual([expected.knnPreservation, expected.shepardRho, expected.stress]);
+    expect(Array.from(await binary(`/api/projections/${done.id}/fidelity`, f.members.viewer.token))).toEqual(Array.from(expected.perPoint));
+  }, 180_000);
 });
 
 describe('projections of a factor set above 20,000 entities', () => {
