@@ -31,8 +31,8 @@
  * queries cost O(m·n·d)); neighbour preservation, Shepard ρ and stress are O(n·k) or O(pairs).
  */
 import type { UniformGenerator } from '../align/random';
-import { keyRowsAt, rowNorms } from './knn-kernel.mjs';
-import { addRankPenalties, rankPenaltyRange, rankScratch } from './rank-kernel.mjs';
+import { rowNorms } from './knn-kernel.mjs';
+import { rankPenaltyRange, sampledRankRange } from './rank-kernel.mjs';
 import { type KnnGraph, type KnnMetric, checkMatrix, exactKnn, prepareKnnRows } from './knn';
 
 /** The k of trustworthiness and continuity stored with a projection (issue 4). */
@@ -521,27 +521,6 @@ export function projectionFidelity(
   return fidelityFromSums(latent, n, d, map, random, plan, { latentKnn, mapKnn }, sums, options.maxPairs);
 }
 
-/**
- * The k nearest points to point i by (key, index), i left out, sorted: ids and keys (kMax each).
- * One pass with an early reject; most points are rejected by one comparison.
- */
-function nearestByKey(keys: Float64Array, n: number, i: number, kMax: number, outId: Int32Array, outKey: Float64Array): void {
-  let kept = 0;
-  for (let l = 0; l < n; l++) {
-    if (l === i) continue;
-    const key = keys[l] as number;
-    if (kept === kMax && (key > (outKey[kMax - 1] as number) || (key === outKey[kMax - 1] && l > (outId[kMax - 1] as number)))) continue;
-    let p = kept === kMax ? kMax - 1 : kept++;
-    while (p > 0 && ((outKey[p - 1] as number) > key || ((outKey[p - 1] as number) === key && (outId[p - 1] as number) > l))) {
-      outKey[p] = outKey[p - 1] as number;
-      outId[p] = outId[p - 1] as number;
-      p--;
-    }
-    outKey[p] = key;
-    outId[p] = l;
-  }
-}
-
 export interface SampledRankScores {
   /** The k, aligned with the arrays below. */
   ks: Int32Array;
@@ -553,6 +532,26 @@ export interface SampledRankScores {
   knnPreservation: number;
   /** Query points used. */
   queries: number;
+}
+
+export interface SampledRankOptions {
+  metric?: KnnMetric;
+  mapDims?: number;
+  preservationK?: number;
+  onProgress?: (fraction: number) => void;
+}
+
+/** Settings of the sampled scores, every input checked (sampledRankScores, fidelity-parallel.ts). */
+export function sampledPlan(n: number, map: Float32Array, ks: readonly number[], queries: ArrayLike<number>, options: SampledRankOptions): { metric: KnnMetric; mapDims: number; preservationK: number; kMax: number } {
+  const mapDims = options.mapDims ?? 2;
+  const preservationK = options.preservationK ?? PRESERVATION_K;
+  const kMax = Math.max(checkKs(ks, n), Math.min(preservationK, n - 1));
+  checkMatrix('fidelity: map', map, n, mapDims);
+  for (let r = 0; r < queries.length; r++) {
+    const i = queries[r] as number;
+    if (!Number.isInteger(i) || i < 0 || i >= n) throw new RangeError(`fidelity: query ${i} is not a point index`);
+  }
+  return { metric: options.metric ?? 'euclidean', mapDims, preservationK, kMax };
 }
 
 /**
@@ -578,62 +577,27 @@ export function sampledRankScores(
   map: Float32Array,
   ks: readonly number[],
   queries: ArrayLike<number>,
-  options: { metric?: KnnMetric; mapDims?: number; preservationK?: number; onProgress?: (fraction: number) => void } = {},
+  options: SampledRankOptions = {},
 ): SampledRankScores {
-  const metric = options.metric ?? 'euclidean';
-  const mapDims = options.mapDims ?? 2;
-  const preservationK = options.preservationK ?? PRESERVATION_K;
-  const kMax = Math.max(checkKs(ks, n), Math.min(preservationK, n - 1));
-  checkMatrix('fidelity: map', map, n, mapDims);
+  const { metric, mapDims, preservationK, kMax } = sampledPlan(n, map, ks, queries, options);
+  const m = queries.length;
   const rows = prepareKnnRows(latent, n, d, metric);
   const norms = new Float64Array(n);
   rowNorms(rows, n, d, norms);
-  // Latent keys of four queries at a time (keyRowsAt loads each point's row once for four).
-  const block = 4;
-  const blockKeys = new Float64Array(block * n);
-  const mapKeys = new Float64Array(n);
-  const mapId = new Int32Array(kMax);
-  const mapKey = new Float64Array(kMax);
-  const latentId = new Int32Array(kMax);
-  const latentKey = new Float64Array(kMax);
-  const scratch = rankScratch(kMax);
   const trustSums = new Float64Array(ks.length);
   const continuitySums = new Float64Array(ks.length);
-  let kept = 0;
-  const m = queries.length;
-  for (let r = 0; r < m; r++) {
-    const i = queries[r] as number;
-    if (!Number.isInteger(i) || i < 0 || i >= n) throw new RangeError(`fidelity: query ${i} is not a point index`);
-    if (r % block === 0) keyRowsAt(rows, norms, n, d, Array.prototype.slice.call(queries, r, Math.min(m, r + block)) as number[], blockKeys);
-    const latentKeys = blockKeys.subarray((r % block) * n, (r % block + 1) * n);
-    for (let l = 0; l < n; l++) {
-      let s = 0;
-      for (let t = 0; t < mapDims; t++) {
-        const e = (map[i * mapDims + t] as number) - (map[l * mapDims + t] as number);
-        s += e * e;
-      }
-      mapKeys[l] = s;
-    }
-    nearestByKey(mapKeys, n, i, kMax, mapId, mapKey);
-    nearestByKey(latentKeys, n, i, kMax, latentId, latentKey);
-    addRankPenalties(latentKeys, n, i, mapId, ks, kMax, scratch, trustSums);
-    addRankPenalties(mapKeys, n, i, latentId, ks, kMax, scratch, continuitySums);
-    for (let s = 0; s < preservationK && s < kMax; s++) {
-      const j = mapId[s] as number;
-      for (let t = 0; t < preservationK && t < kMax; t++) {
-        if (latentId[t] === j) {
-          kept++;
-          break;
-        }
-      }
-    }
-    options.onProgress?.((r + 1) / m);
-  }
-  const estimate = (sums: Float64Array) => Float64Array.from(ks, (k, index) => 1 - (2 * (sums[index] as number)) / (m * k * (2 * n - 3 * k - 1)));
+  const onProgress = options.onProgress;
+  const kept = sampledRankRange(rows, norms, n, d, map, mapDims, ks, kMax, preservationK, queries, 0, m, trustSums, continuitySums, onProgress && ((done) => onProgress(done / m)));
+  return sampledScoresFromSums(ks, n, m, kMax, preservationK, { trust: trustSums, continuity: continuitySums }, kept);
+}
+
+/** The estimates from the sums of sampledRankRange over all m queries (fidelity-parallel.ts adds them up over threads). */
+export function sampledScoresFromSums(ks: readonly number[], n: number, m: number, kMax: number, preservationK: number, sums: RankSums, kept: number): SampledRankScores {
+  const estimate = (values: Float64Array) => Float64Array.from(ks, (k, index) => 1 - (2 * (values[index] as number)) / (m * k * (2 * n - 3 * k - 1)));
   return {
     ks: Int32Array.from(ks),
-    trustworthiness: estimate(trustSums),
-    continuity: estimate(continuitySums),
+    trustworthiness: estimate(sums.trust),
+    continuity: estimate(sums.continuity),
     knnPreservation: m > 0 ? kept / (m * Math.min(preservationK, kMax)) : Number.NaN,
     queries: m,
   };

@@ -21,3 +21,20 @@ export declare function rankPenaltyRange(
   sums: Float64Array,
   onBlock?: (done: number) => void,
 ): void;
+export declare function sampledRankRange(
+  rows: Float64Array,
+  norms: Float64Array,
+  n: number,
+  d: number,
+  map: Float32Array,
+  mapDims: number,
+  ks: ArrayLike<number>,
+  kMax: number,
+  preservationK: number,
+  queries: ArrayLike<number>,
+  r0: number,
+  r1: number,
+  trustSums: Float64Array,
+  continuitySums: Float64Array,
+  onQuery?: (done: number) => void,
+): number;

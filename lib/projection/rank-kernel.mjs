@@ -9,7 +9,7 @@
  * so partial sums over query ranges add up to the same bits in any order and on any number of
  * threads.
  */
-import { keyRows } from './knn-kernel.mjs';
+import { keyRows, keyRowsAt } from './knn-kernel.mjs';
 
 /** Query rows whose distance rows are computed together: QUERY_BLOCK × n × 8 bytes of scratch. */
 export const QUERY_BLOCK = 16;
@@ -118,4 +118,95 @@ export function rankPenaltyRange(rows, norms, n, d, indices, stride, ks, q0, q1,
     }
     onBlock?.(b1 - q0);
   }
+}
+
+/**
+ * The kMax nearest points to point i by (key, index), i left out, sorted: ids and keys. One pass
+ * with an early reject; most points are rejected by one comparison.
+ * @param {Float64Array} keys
+ * @param {number} n
+ * @param {number} i
+ * @param {number} kMax
+ * @param {Int32Array} outId
+ * @param {Float64Array} outKey
+ */
+function nearestByKey(keys, n, i, kMax, outId, outKey) {
+  let kept = 0;
+  for (let l = 0; l < n; l++) {
+    if (l === i) continue;
+    const key = keys[l];
+    if (kept === kMax && (key > outKey[kMax - 1] || (key === outKey[kMax - 1] && l > outId[kMax - 1]))) continue;
+    let p = kept === kMax ? kMax - 1 : kept++;
+    while (p > 0 && (outKey[p - 1] > key || (outKey[p - 1] === key && outId[p - 1] > l))) {
+      outKey[p] = outKey[p - 1];
+      outId[p] = outId[p - 1];
+      p--;
+    }
+    outKey[p] = key;
+    outId[p] = l;
+  }
+}
+
+/**
+ * The terms of the sampled scores (fidelity.ts sampledRankScores) for queries[r0 … r1 − 1]: each
+ * query ranked against all n points in both spaces, its trustworthiness and continuity penalties
+ * added to trustSums and continuitySums; returns how many of the queries' preservationK latent
+ * neighbours are among their preservationK map neighbours. Latent keys of four queries at a time
+ * (keyRowsAt loads each point's row once for four; the keys do not depend on the grouping).
+ * @param {Float64Array} rows latent rows prepared as knn.ts does, n × d
+ * @param {Float64Array} norms their squared norms
+ * @param {number} n
+ * @param {number} d
+ * @param {Float32Array} map n × mapDims
+ * @param {number} mapDims
+ * @param {ArrayLike<number>} ks
+ * @param {number} kMax ≥ max(ks) and ≥ min(preservationK, n − 1)
+ * @param {number} preservationK
+ * @param {ArrayLike<number>} queries point indices, checked by the caller
+ * @param {number} r0
+ * @param {number} r1
+ * @param {Float64Array} trustSums aligned with ks
+ * @param {Float64Array} continuitySums aligned with ks
+ * @param {(done: number) => void} [onQuery] queries done so far in this range, after each
+ * @returns {number}
+ */
+export function sampledRankRange(rows, norms, n, d, map, mapDims, ks, kMax, preservationK, queries, r0, r1, trustSums, continuitySums, onQuery) {
+  const block = 4;
+  const blockKeys = new Float64Array(block * n);
+  const mapKeys = new Float64Array(n);
+  const mapId = new Int32Array(kMax);
+  const mapKey = new Float64Array(kMax);
+  const latentId = new Int32Array(kMax);
+  const latentKey = new Float64Array(kMax);
+  const scratch = rankScratch(kMax);
+  let kept = 0;
+  for (let r = r0; r < r1; r++) {
+    const i = queries[r];
+    const slot = (r - r0) % block;
+    if (slot === 0) keyRowsAt(rows, norms, n, d, Array.prototype.slice.call(queries, r, Math.min(r1, r + block)), blockKeys);
+    const latentKeys = blockKeys.subarray(slot * n, (slot + 1) * n);
+    for (let l = 0; l < n; l++) {
+      let s = 0;
+      for (let t = 0; t < mapDims; t++) {
+        const e = map[i * mapDims + t] - map[l * mapDims + t];
+        s += e * e;
+      }
+      mapKeys[l] = s;
+    }
+    nearestByKey(mapKeys, n, i, kMax, mapId, mapKey);
+    nearestByKey(latentKeys, n, i, kMax, latentId, latentKey);
+    addRankPenalties(latentKeys, n, i, mapId, ks, kMax, scratch, trustSums);
+    addRankPenalties(mapKeys, n, i, latentId, ks, kMax, scratch, continuitySums);
+    for (let s = 0; s < preservationK && s < kMax; s++) {
+      const j = mapId[s];
+      for (let t = 0; t < preservationK && t < kMax; t++) {
+        if (latentId[t] === j) {
+          kept++;
+          break;
+        }
+      }
+    }
+    onQuery?.(r + 1 - r0);
+  }
+  return kept;
 }

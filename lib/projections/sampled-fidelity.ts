@@ -1,5 +1,6 @@
 import type { UniformGenerator } from '@/lib/align/random';
-import { distanceFidelity, FIDELITY_KS, neighbourPreservation, PRESERVATION_K, sampledRankScores } from '@/lib/projection/fidelity';
+import { distanceFidelity, FIDELITY_KS, neighbourPreservation, PRESERVATION_K } from '@/lib/projection/fidelity';
+import { sampledRankScoresParallel } from '@/lib/projection/fidelity-parallel';
 import type { KnnGraph, KnnMetric } from '@/lib/projection/knn';
 import { firstNeighbours } from '@/lib/projection/knn-graph';
 import { mapKnn2d } from '@/lib/projection/map-knn';
@@ -8,11 +9,11 @@ import type { ProjectionQuality } from './projections';
 /**
  * Fidelity scores of a projection too large for the exact ones (O(n²·d), above 20,000 entities):
  * each of SAMPLED_FIDELITY_QUERIES seeded random entities is ranked exactly against all n in both
- * spaces (sampledRankScores), so trustworthiness T(k), continuity C(k) and the k-nearest-neighbour
+ * spaces (sampledRankScores, on worker threads: fidelity-parallel.ts), so trustworthiness T(k), continuity C(k) and the k-nearest-neighbour
  * preservation are unbiased estimates with a standard error of about sd/√m (m = 500: ~0.005 on
  * typical maps; rule of thumb from the per-point spread). Shepard's ρ and the stress use sampled
  * pairs already. Cost O(m·n·d): about 10⁹ multiply-adds at 100,000 × 32 and 1.6·10¹⁰ at
- * 1,000,000 × 32 (seconds to tens of seconds on one core; bench-projection prints it).
+ * 1,000,000 × 32 (30 s on one thread, about half that on two).
  *
  * Why 500 queries at every size: the standard error depends on m, not on n, and the cost grows
  * with m·n; 500 keeps a 1,000,000-entity score under a minute while its error (~0.005) stays below
@@ -34,7 +35,7 @@ export function sampleIndices(n: number, m: number, random: UniformGenerator): I
   return pool.slice(0, take).sort();
 }
 
-export function sampledProjectionQuality(
+export async function sampledProjectionQuality(
   latent: Float32Array,
   n: number,
   d: number,
@@ -42,10 +43,11 @@ export function sampledProjectionQuality(
   metric: KnnMetric,
   random: UniformGenerator,
   onProgress: (share: number) => void,
-): ProjectionQuality {
+  options: { threads?: number; signal?: AbortSignal } = {},
+): Promise<ProjectionQuality> {
   const queries = sampleIndices(n, SAMPLED_FIDELITY_QUERIES, random);
   const ks = FIDELITY_KS.filter((k) => k < n / 2);
-  const scores = sampledRankScores(latent, n, d, map, ks, queries, { metric, onProgress: (share) => onProgress(0.9 * share) });
+  const scores = await sampledRankScoresParallel(latent, n, d, map, ks, queries, { metric, onProgress: (share) => onProgress(0.9 * share), ...options });
   const byK = (values: Float64Array) => Object.fromEntries(FIDELITY_KS.map((k) => [String(k), ks.includes(k) ? (values[ks.indexOf(k)] ?? null) : null]));
   const distances = distanceFidelity(latent, n, d, map, random, { metric });
   onProgress(1);

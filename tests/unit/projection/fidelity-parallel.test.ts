@@ -1,13 +1,13 @@
 /**
  * projectionFidelityParallel (lib/projection/fidelity-parallel.ts) gives projectionFidelity's
  * scores bit for bit on any number of threads (the single-thread scores are checked against
- * scikit-learn in fidelity-reference.test.ts), reports progress while it runs, and stops when
+ * scikit-learn in fidelity-reference.test.ts), the sampled estimates likewise, reports progress while it runs, and stops when
  * cancelled or when its progress callback throws.
  */
 import { describe, expect, it } from 'vitest';
 import { mulberry32, normalGenerator } from '@/lib/align/random';
-import { type ProjectionFidelity, projectionFidelity } from '@/lib/projection/fidelity';
-import { PARALLEL_FIDELITY_MIN_POINTS, projectionFidelityParallel } from '@/lib/projection/fidelity-parallel';
+import { type ProjectionFidelity, projectionFidelity, sampledRankScores } from '@/lib/projection/fidelity';
+import { PARALLEL_FIDELITY_MIN_POINTS, PARALLEL_SAMPLED_MIN_WORK, projectionFidelityParallel, sampledRankScoresParallel } from '@/lib/projection/fidelity-parallel';
 import { gaussianMixture } from './methods-fixtures';
 
 /** A map that keeps the clusters but scrambles a share of the points, so every score is away from 1. */
@@ -64,4 +64,24 @@ describe('fidelity scores on worker threads', () => {
       }),
     ).rejects.toThrow('stop here');
   }, 60_000);
+
+  it('sampled estimates equal the single-thread ones bit for bit on 2 and 3 threads, with rising progress', async () => {
+    const big = gaussianMixture(13, 5, 2500, 8);
+    const bigMap = noisyMap(big.labels, 14);
+    const queries = Int32Array.from({ length: 4001 }, (_, r) => (r * 3) % big.n);
+    expect(queries.length * big.n).toBeGreaterThanOrEqual(PARALLEL_SAMPLED_MIN_WORK);
+    const one = sampledRankScores(big.data, big.n, big.d, bigMap, [5, 15, 50], queries, { metric: 'cosine' });
+    for (const threads of [2, 3]) {
+      const seen: number[] = [];
+      const many = await sampledRankScoresParallel(big.data, big.n, big.d, bigMap, [5, 15, 50], queries, { metric: 'cosine', threads, onProgress: (f) => seen.push(f) });
+      expect(Array.from(many.trustworthiness)).toEqual(Array.from(one.trustworthiness));
+      expect(Array.from(many.continuity)).toEqual(Array.from(one.continuity));
+      expect([many.knnPreservation, many.queries]).toEqual([one.knnPreservation, one.queries]);
+      expect(seen.at(-1)).toBe(1);
+      for (let s = 1; s < seen.length; s++) expect(seen[s] as number).toBeGreaterThanOrEqual(seen[s - 1] as number);
+    }
+    const controller = new AbortController();
+    setTimeout(() => controller.abort(new Error('cancelled by the test')), 30);
+    await expect(sampledRankScoresParallel(big.data, big.n, big.d, bigMap, [5, 15, 50], queries, { threads: 2, signal: controller.signal })).rejects.toThrow('cancelled by the test');
+  }, 120_000);
 });

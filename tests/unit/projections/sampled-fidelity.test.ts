@@ -14,7 +14,7 @@ describe('sampled fidelity scores for large factor sets', () => {
     expect(sampleIndices(10, 50, mulberry32(1)).length).toBe(10);
   });
 
-  it('estimates the exact trustworthiness and neighbour preservation of a PCA map (3,000 × 6 mixture)', () => {
+  it('estimates the exact trustworthiness and neighbour preservation of a PCA map (3,000 × 6 mixture)', async () => {
     const n = 3000;
     const d = 6;
     const normal = normalGenerator(mulberry32(21));
@@ -22,7 +22,7 @@ describe('sampled fidelity scores for large factor sets', () => {
     for (let i = 0; i < n; i += 1) for (let c = 0; c < d; c += 1) latent[i * d + c] = (i % 5) * (c === i % 5 ? 4 : 0) + normal();
     const map = transformPca(fitPca(latent, n, d, { components: 2 }), latent, n);
     const exact = projectionFidelity(latent, n, d, map, mulberry32(1));
-    const sampled = sampledProjectionQuality(latent, n, d, map, 'euclidean', mulberry32(1), () => {});
+    const sampled = await sampledProjectionQuality(latent, n, d, map, 'euclidean', mulberry32(1), () => {});
     // 500 queries: standard error about 0.005 here; 0.02 leaves room (rule of thumb, 4 SE).
     expect(Math.abs((sampled.trustworthiness['15'] ?? 0) - (exact.trustworthiness[1] ?? 0))).toBeLessThan(0.02);
     expect(Math.abs((sampled.trustworthiness['50'] ?? 0) - (exact.trustworthiness[2] ?? 0))).toBeLessThan(0.02);
