@@ -51,12 +51,25 @@ describe('fidelity scores on worker threads', () => {
     for (let s = 1; s < seen.length; s++) expect(seen[s] as number).toBeGreaterThanOrEqual(seen[s - 1] as number);
   }, 60_000);
 
-  it('rejects with the signal’s reason when cancelled, and with the error its progress callback throws', async () => {
+  it('rejects with the signal’s reason when cancelled mid-run, and with the error its progress callback throws', async () => {
+    // 6,000 × 32: the rank work spans several progress ticks (about a second on two threads).
+    const large = gaussianMixture(17, 4, 1500, 32);
+    const largeMap = noisyMap(large.labels, 18);
     const controller = new AbortController();
-    setTimeout(() => controller.abort(new Error('cancelled by the test')), 30);
-    await expect(projectionFidelityParallel(data, n, d, map, mulberry32(5), { threads: 2, signal: controller.signal })).rejects.toThrow('cancelled by the test');
+    const fractions: number[] = [];
+    const cancelled = projectionFidelityParallel(large.data, large.n, large.d, largeMap, mulberry32(5), {
+      threads: 2,
+      signal: controller.signal,
+      onProgress: (f) => {
+        fractions.push(f);
+        if (f < 1) controller.abort(new Error('cancelled by the test'));
+      },
+    });
+    await expect(cancelled).rejects.toThrow('cancelled by the test');
+    expect(fractions).toHaveLength(1);
+    expect(fractions[0]).toBeLessThan(1);
     await expect(
-      projectionFidelityParallel(data, n, d, map, mulberry32(5), {
+      projectionFidelityParallel(large.data, large.n, large.d, largeMap, mulberry32(5), {
         threads: 2,
         onProgress: () => {
           throw new Error('stop here');
@@ -81,7 +94,9 @@ describe('fidelity scores on worker threads', () => {
       for (let s = 1; s < seen.length; s++) expect(seen[s] as number).toBeGreaterThanOrEqual(seen[s - 1] as number);
     }
     const controller = new AbortController();
-    setTimeout(() => controller.abort(new Error('cancelled by the test')), 30);
-    await expect(sampledRankScoresParallel(big.data, big.n, big.d, bigMap, [5, 15, 50], queries, { threads: 2, signal: controller.signal })).rejects.toThrow('cancelled by the test');
+    const onProgress = (f: number) => {
+      if (f < 1) controller.abort(new Error('cancelled by the test'));
+    };
+    await expect(sampledRankScoresParallel(big.data, big.n, big.d, bigMap, [5, 15, 50], queries, { threads: 2, signal: controller.signal, onProgress })).rejects.toThrow('cancelled by the test');
   }, 120_000);
 });
