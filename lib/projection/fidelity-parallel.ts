@@ -82,7 +82,7 @@ export async function projectionFidelityParallel(
   random: UniformGenerator,
   options: ParallelFidelityOptions = {},
 ): Promise<ProjectionFidelity> {
-  const requested = options.threads ?? availableParallelism();
+  const requested = options.threads ?? Math.min(64, availableParallelism());
   if (!Number.isInteger(requested) || requested < 1 || requested > 64) throw new RangeError(`fidelity: threads must be an integer from 1 to 64, got ${requested}`);
   const { signal, onProgress } = options;
   signal?.throwIfAborted();
@@ -155,7 +155,7 @@ export async function sampledRankScoresParallel(
   queries: ArrayLike<number>,
   options: SampledRankOptions & { threads?: number; signal?: AbortSignal } = {},
 ): Promise<SampledRankScores> {
-  const requested = options.threads ?? availableParallelism();
+  const requested = options.threads ?? Math.min(64, availableParallelism());
   if (!Number.isInteger(requested) || requested < 1 || requested > 64) throw new RangeError(`fidelity: threads must be an integer from 1 to 64, got ${requested}`);
   const { signal, onProgress } = options;
   signal?.throwIfAborted();
@@ -213,6 +213,11 @@ async function onRankWorkers(
     await new Promise<void>((resolve, reject) => {
       const fail = (error: unknown) => reject(error instanceof Error ? error : new Error(String(error)));
       onAbort = () => fail(signal?.reason ?? new Error('fidelity scores cancelled'));
+      // Aborted already (during the graph searches before): an 'abort' listener would never fire.
+      if (signal?.aborted) {
+        onAbort();
+        return;
+      }
       signal?.addEventListener('abort', onAbort, { once: true });
       if (onProgress) {
         timer = setInterval(() => {
@@ -227,6 +232,9 @@ async function onRankWorkers(
       for (let thread = 0; thread < threads; thread++) {
         const worker = new Worker(url);
         workers.push(worker);
+        // For the pool's whole life, also between requests (askWorker listens only during one).
+        worker.on('error', fail);
+        worker.once('exit', (code) => fail(new Error(`fidelity scores: worker ${thread} exited with code ${code}`)));
         work(worker, thread, buffer).then(() => {
           pending--;
           if (pending === 0) resolve();

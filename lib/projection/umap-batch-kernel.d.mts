@@ -2,7 +2,7 @@
 export declare const ADAM_BETA1: number;
 export declare const ADAM_BETA2: number;
 export declare const ADAM_EPSILON: number;
-/** x^b for x > 0, relative error below 1e-6. */
+/** x^b for x > 0, relative error below 1e-6 where the result is a normal double (else 0 or Infinity). */
 export declare function fastPower(x: number, b: number): number;
 export declare function vertexStream(seed: number, epoch: number, i: number): number;
 export interface BatchState {

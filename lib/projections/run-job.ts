@@ -121,7 +121,7 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     } else {
       report(0.05 + layoutShare, 'fidelity scores (sampled)', true);
       quality = {
-        ...(await sampledProjectionQuality(values, n, d, result.coordinates, metric, mulberry32(projection.seed), (share) => report(0.05 + layoutShare + (0.9 - layoutShare) * share, 'fidelity scores (sampled)'), {
+        ...(await sampledProjectionQuality(values, n, d, result.coordinates, metric, mulberry32(projection.seed), (share) => report(0.05 + layoutShare + (0.9 - 0.05 - layoutShare) * share, 'fidelity scores (sampled)'), {
           threads: options.threads,
           signal: controller.signal,
         })),

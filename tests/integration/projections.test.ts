@@ -221,7 +221,7 @@ describe('projections on the job queue', () => {
 });
 
 describe('exact fidelity scores of a set large enough for worker threads', () => {
-  it('stores the scores projectionFidelity gives for the stored values and coordinates (one thread)', async () => {
+  it('stores the scores projectionFidelity (one thread) gives for the stored values and coordinates', async () => {
     const f = await workspaceWithEveryRole('Scored projection fixture');
     const n = 3000;
     const d = 6;
