@@ -4,7 +4,9 @@
  * (tests/fixtures/projection/pca-digits.csv.gz, 1797 × 64) and on seeded Gaussian mixtures of
  * 10,000 × 32 and 50,000 × 32 (and PCA alone on a 100,000 × 64 mixture), and prints for each step the seconds, the peak resident memory of
  * this process while it ran, and trustworthiness at 15 of each layout (exact up to 20,000 points,
- * else estimated from 2,000 seeded query points, see sampledTrustworthiness).
+ * else estimated from 2,000 seeded query points, see sampledTrustworthiness). After each UMAP it
+ * times the projection job's fidelity scores of that map (exact up to 20,000 points, sampled
+ * beyond, on the same threads), which a job spends beside its layout.
  *
  * When they are installed it runs the reference libraries on the same data in the same run, as
  * child processes, and prints ours/reference ratios:
@@ -31,6 +33,7 @@ import { Worker } from 'node:worker_threads';
 import { gunzipSync } from 'node:zlib';
 import { mulberry32, normalGenerator } from '../lib/align/random';
 import { sampledTrustworthiness, trustworthiness } from '../lib/projection/fidelity';
+import { projectionFidelityParallel } from '../lib/projection/fidelity-parallel';
 import { type KnnGraph, exactKnnOfRows, exactKnnParallel } from '../lib/projection/knn';
 import { approxKnn, knnRecall } from '../lib/projection/knn-approx';
 import { runProjection } from '../lib/projection/methods';
@@ -38,6 +41,7 @@ import { ProgressReporter } from '../lib/projection/job-control';
 import { parseProjectionParams } from '../lib/projection/params';
 import { SAMMON_MAX_POINTS } from '../lib/projection/sammon';
 import { DEFAULT_UMAP_ENGINE, runUmap } from '../lib/projection/umap';
+import { FIDELITY_MAX_ENTITIES, sampledProjectionQuality } from '../lib/projections/sampled-fidelity';
 
 const args = new Set(process.argv.slice(2));
 const quick = args.has('--quick');
@@ -293,6 +297,19 @@ async function bench(set: Dataset): Promise<void> {
     umapRow.reference = { name: 'uwot (incl. its kNN)', seconds: reference.seconds, peakMb: reference.peakMb, quality: `T(15) ${trust15(set, reference.layout).toFixed(4)}` };
   }
   push(umapRow);
+  // The projection job's fidelity scores of that map (run-job.ts): exact up to
+  // FIDELITY_MAX_ENTITIES, given the exact graph at k = 50 as the job's cache holds it (searched
+  // here outside the timing), sampled beyond.
+  const coordinates = umap.value.coordinates;
+  if (set.n <= FIDELITY_MAX_ENTITIES) {
+    const latentKnn = await exactKnnParallel(set.data, set.n, set.d, Math.min(set.n - 1, 50), 'euclidean', { threads: THREADS });
+    const scores = await timed(() => projectionFidelityParallel(set.data, set.n, set.d, coordinates, mulberry32(42), { latentKnn, threads: THREADS }));
+    const { trustworthiness: t, continuity: c } = scores.value;
+    push({ dataset: set.name, step: 'fidelity (exact)', seconds: scores.seconds, peakMb: scores.peakMb, quality: `T(15) ${(t[1] ?? Number.NaN).toFixed(4)}, C(15) ${(c[1] ?? Number.NaN).toFixed(4)}` });
+  } else {
+    const scores = await timed(() => sampledProjectionQuality(set.data, set.n, set.d, coordinates, 'euclidean', mulberry32(42), () => {}, { threads: THREADS }));
+    push({ dataset: set.name, step: 'fidelity (sampled)', seconds: scores.seconds, peakMb: scores.peakMb, quality: `T(15) ≈ ${(scores.value.trustworthiness['15'] ?? Number.NaN).toFixed(4)}, ${scores.value.sampledQueries} queries` });
+  }
   // The reference engine on the same graph and seed, on request (slow: minutes at 10,000 points).
   if (withUmapJs) {
     const params = parseProjectionParams('umap', {}, set.n);

@@ -10,7 +10,7 @@
  *   search's time (20,000 × 32 NN-descent: ~1 s), so below it exact is affordable and free of
  *   error;
  * - the exact fidelity scores (trustworthiness, continuity) rank every pair up to 20,000 entities
- *   (FIDELITY_MAX_ENTITIES in lib/projections/run-job.ts; sampled beyond), so every exactly
+ *   (FIDELITY_MAX_ENTITIES in lib/projections/sampled-fidelity.ts; sampled beyond), so every exactly
  *   scored projection of up to 32 dimensions ranks against the exact graph;
  * - beyond, the exact search grows quadratically (50,000 × 32: 11–56 s; 200,000 × 32: ~3–15 min)
  *   while NN-descent grows roughly as n log n (50,000 × 32: 2.6 s idle, recall 0.96 at k = 15 on

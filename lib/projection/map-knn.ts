@@ -1,6 +1,6 @@
 /**
  * The k nearest neighbours of every point of a 2-D map, for the per-point fidelity of maps too
- * large for the exact O(n²) search (above lib/projections/run-job.ts's FIDELITY_MAX_ENTITIES).
+ * large for the exact O(n²) search (above lib/projections/sampled-fidelity.ts's FIDELITY_MAX_ENTITIES).
  *
  * Why flatbush: a static packed R-tree over Float64 coordinates whose k-nearest query walks boxes
  * in order of distance (a well-known package; no kd-tree of our own needed). Building is

@@ -9,14 +9,8 @@ import { firstNeighbours } from '@/lib/projection/knn-graph';
 import { runProjection } from '@/lib/projection/methods';
 import { factorSetGraph } from './knn-cache';
 import { findProjection, type ProjectionQuality, writeProjectionBlocks } from './projections';
-import { perPointFidelityFromGraph, sampledProjectionQuality } from './sampled-fidelity';
+import { FIDELITY_MAX_ENTITIES, perPointFidelityFromGraph, sampledProjectionQuality } from './sampled-fidelity';
 
-/**
- * Above this many entities the exact fidelity scores (O(n²·d)) would take longer than the layout;
- * larger sets get sampled estimates (sampled-fidelity.ts) and a per-point fidelity from the shared
- * neighbour graph.
- */
-export const FIDELITY_MAX_ENTITIES = 20_000;
 const PROGRESS_INTERVAL_MS = 400;
 
 class Cancelled extends Error {

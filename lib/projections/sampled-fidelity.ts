@@ -7,6 +7,13 @@ import { mapKnn2d } from '@/lib/projection/map-knn';
 import type { ProjectionQuality } from './projections';
 
 /**
+ * Above this many entities the exact fidelity scores (O(n²·d)) would take longer than the layout;
+ * larger sets get the sampled estimates below and a per-point fidelity from the shared neighbour
+ * graph (the projection job, run-job.ts, chooses by it).
+ */
+export const FIDELITY_MAX_ENTITIES = 20_000;
+
+/**
  * Fidelity scores of a projection too large for the exact ones (O(n²·d), above 20,000 entities):
  * each of SAMPLED_FIDELITY_QUERIES seeded random entities is ranked exactly against all n in both
  * spaces (sampledRankScores, on worker threads: fidelity-parallel.ts), so trustworthiness T(k), continuity C(k) and the k-nearest-neighbour
