@@ -38,9 +38,12 @@
  *
  * Checked (tests/unit/projection/hdbscan.test.ts): on iris and a seeded blob set with noise, at
  * minPts 5, 10 and 20, the labels (clusters and noise) equal dbscan::hdbscan's in all six cases
- * and the core distances to 10⁻¹²; the cluster stabilities equal R's for 3 of the 14 clusters and
- * are within 7% (ours lower) for the others — a difference in how R accumulates stability that we
- * have not traced; it did not change any selection here.
+ * and the core distances to 10⁻¹². The stabilities differ by convention: R's (computeStability in
+ * the package's src/hdbscan.cpp, read to trace a gap) credits a point that leaves in a group
+ * smaller than minClusterSize from the λ of its own merge inside the group, capped at its
+ * cluster's split; ours take the λ at which the group left, as step 6 and the Python library do.
+ * Computed R's way (stabilityAsDbscan) they equal R's to 10⁻¹² in all 14 clusters; ours are up
+ * to 7% lower, which changed no selection here.
  */
 import { type KnnGraph, checkMatrix } from './knn';
 
@@ -69,6 +72,14 @@ export interface HdbscanResult {
   clusters: number;
   /** Stability of each selected cluster, aligned with the labels (larger = more persistent). */
   stability: Float64Array;
+  /**
+   * The same stabilities as R's dbscan::hdbscan accounts them, for comparison with that reference
+   * (selection uses `stability`). R credits a point that leaves its cluster inside a group
+   * smaller than minClusterSize from the λ of the point's own merge within that group (capped at
+   * the cluster's split), not from the λ at which the group left, as Campello et al. and the
+   * Python hdbscan library do; its stabilities are therefore higher.
+   */
+  stabilityAsDbscan: Float64Array;
   /** Core distance of each entity (step 1). */
   coreDistances: Float64Array;
   /**
@@ -280,6 +291,8 @@ interface Condensed {
   parent: Int32Array;
   birth: Float64Array;
   stability: Float64Array;
+  /** Per condensed cluster: the stability as R's dbscan::hdbscan accounts it (see HdbscanResult). */
+  stabilityAsDbscan: Float64Array;
   /** Per point: the condensed cluster it fell out of. */
   pointCluster: Int32Array;
   clusters: number;
@@ -310,6 +323,8 @@ function condense(n: number, tree: { from: Int32Array; to: Int32Array; weight: F
   const height = new Float64Array(edges);
   const size = new Int32Array(2 * n - 1);
   for (let i = 0; i < n; i++) size[i] = 1;
+  // Height of the merge that takes in each point as a single point.
+  const ownHeight = new Float64Array(n);
   for (let s = 0; s < edges; s++) {
     const e = order[s] as number;
     const a = find(tree.from[e] as number);
@@ -318,6 +333,8 @@ function condense(n: number, tree: { from: Int32Array; to: Int32Array; weight: F
     left[s] = a;
     right[s] = b;
     height[s] = tree.weight[e] as number;
+    if (a < n) ownHeight[a] = height[s] as number;
+    if (b < n) ownHeight[b] = height[s] as number;
     size[node] = (size[a] as number) + (size[b] as number);
     unionParent[a] = node;
     unionParent[b] = node;
@@ -347,6 +364,9 @@ function condense(n: number, tree: { from: Int32Array; to: Int32Array; weight: F
   const parent: number[] = [-1];
   const birth: number[] = [0];
   const stability: number[] = [0];
+  // λ and size at which a cluster split into two (NaN: it never split).
+  const death: number[] = [Number.NaN];
+  const splitSize: number[] = [0];
   const pointCluster = new Int32Array(n);
   const fallOut = (node: number, cluster: number, lambda: number) => {
     const start = first[node] as number;
@@ -377,11 +397,15 @@ function condense(n: number, tree: { from: Int32Array; to: Int32Array; weight: F
       // A true split: the parent ends here; its points' λ is the split's.
       const born = birth[cluster] as number;
       if (lambda > born) stability[cluster] = (stability[cluster] as number) + (size[node] as number) * (lambda - born);
+      death[cluster] = lambda;
+      splitSize[cluster] = size[node] as number;
       for (const child of [a, b]) {
         const id = parent.length;
         parent.push(cluster);
         birth.push(lambda);
         stability.push(0);
+        death.push(Number.NaN);
+        splitSize.push(0);
         stack.push(child, id);
       }
     } else if (bigA) {
@@ -394,7 +418,15 @@ function condense(n: number, tree: { from: Int32Array; to: Int32Array; weight: F
       fallOut(node, cluster, lambda);
     }
   }
-  return { parent: Int32Array.from(parent), birth: Float64Array.from(birth), stability: Float64Array.from(stability), pointCluster, clusters: parent.length };
+  // R's accounting: a point counts from its own merge's λ, capped at its cluster's split.
+  const stabilityAsDbscan = Float64Array.from(splitSize, (count, c) => (count > 0 ? count * ((death[c] as number) - (birth[c] as number)) : 0));
+  for (let p = 0; p < n; p++) {
+    const c = pointCluster[p] as number;
+    const own = (ownHeight[p] as number) > 0 ? 1 / (ownHeight[p] as number) : Infinity;
+    const split = death[c] as number;
+    stabilityAsDbscan[c] = (stabilityAsDbscan[c] as number) + (Number.isNaN(split) ? own : Math.min(own, split)) - (birth[c] as number);
+  }
+  return { parent: Int32Array.from(parent), birth: Float64Array.from(birth), stability: Float64Array.from(stability), stabilityAsDbscan, pointCluster, clusters: parent.length };
 }
 
 /**
@@ -468,11 +500,13 @@ export function hdbscan(data: Float32Array | Float64Array, n: number, d: number,
   // nearest selected ancestor (or itself), −1 if none.
   const labelOf = new Int32Array(condensed.clusters).fill(-1);
   const stability: number[] = [];
+  const stabilityAsDbscan: number[] = [];
   let clusters = 0;
   for (let c = 1; c < condensed.clusters; c++) {
     if (selected[c] === 1) {
       labelOf[c] = clusters++;
       stability.push(condensed.stability[c] as number);
+      stabilityAsDbscan.push(condensed.stabilityAsDbscan[c] as number);
     } else {
       labelOf[c] = labelOf[condensed.parent[c] as number] as number;
     }
@@ -498,5 +532,5 @@ export function hdbscan(data: Float32Array | Float64Array, n: number, d: number,
     membership[i] = top > 0 ? (top - (core[i] as number)) / top : 1;
   }
   report(1, 'HDBSCAN: done');
-  return { labels, clusters, stability: Float64Array.from(stability), coreDistances: core, membership, noiseShare: noise / n };
+  return { labels, clusters, stability: Float64Array.from(stability), stabilityAsDbscan: Float64Array.from(stabilityAsDbscan), coreDistances: core, membership, noiseShare: noise / n };
 }
