@@ -1,6 +1,7 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { mulberry32, normalGenerator } from '@/lib/align/random';
 import { readMatrix, readMatrixRow } from '@/lib/factor-sets/blocks';
+import { APPROX_GRAPH_VERSION, KNN_CACHE_SEED } from '@/lib/projections/knn-cache';
 import { api } from '../support/api';
 import { type RoleFixture, testDb, workspaceWithEveryRole } from '../support/fixtures';
 import { upload, wideCsv } from '../support/uploads';
@@ -81,6 +82,62 @@ describe('the cached neighbour graph', () => {
     expect(many.body.source).toBe('exact search');
     expect(many.body.items).toHaveLength(80);
   }, 60_000);
+});
+
+describe('the cached approximate neighbour graph of a large set', () => {
+  it('is NN-descent of the current version, answers neighbour queries, and is recomputed when cached by an older version', async () => {
+    const f = await workspaceWithEveryRole('Approximate graph fixture');
+    // 30,000 × 16: n²·d = 1.44·10¹⁰, past the exact search's limit (20,000² · 32).
+    const n = 30_000;
+    const d = 16;
+    const normal = normalGenerator(mulberry32(9));
+    const values = new Float32Array(n * d);
+    for (let i = 0; i < n * d; i += 1) values[i] = Math.round((normal() + (Math.floor(i / d) % 10) * 3) * 64) / 64;
+    const created = await upload<{ id: string }>(`/api/workspaces/${f.workspaceId}/factor-sets`, f.members.analyst.token, {
+      file: { content: wideCsv(Array.from({ length: n }, (_, i) => `a${i}`), values, d), filename: 'approx.csv' },
+    });
+    expect(created.status).toBe(201);
+    const id = created.body.id;
+    const current = `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`;
+    const run = async (seed: number): Promise<WireProjection> => {
+      const queued = await api<{ id: string }>('POST', `/api/factor-sets/${id}/projections`, { token: f.members.analyst.token, body: { method: 'pca', params: {}, seed } });
+      expect([200, 202]).toContain(queued.status);
+      const deadline = Date.now() + 120_000;
+      for (;;) {
+        const p = (await api<WireProjection>('GET', `/api/projections/${queued.body.id}`, { token: f.members.analyst.token })).body;
+        if (p.status === 'done' || p.status === 'failed') return p;
+        if (Date.now() > deadline) throw new Error(`projection still ${p.status}`);
+        await new Promise((r) => setTimeout(r, 250));
+      }
+    };
+    const graph = () => testDb().selectFrom('knn_graphs').select(['exact', 'k', 'method', 'created_at']).where('factor_set_id', '=', id).where('metric', '=', 'euclidean').executeTakeFirstOrThrow();
+
+    const first = await run(1);
+    expect(first.status, first.error ?? '').toBe('done');
+    expect(first.versions?.neighbours).toBe(current);
+    const stored = await graph();
+    expect(stored).toMatchObject({ exact: false, k: 15, method: current });
+
+    type Answer = { source: string; items: { id: string; distance: number }[] };
+    const ask = (k: number) => api<Answer>('GET', `/api/factor-sets/${id}/neighbors?entity=a123&k=${k}`, { token: f.members.viewer.token });
+    const approximate = await ask(10);
+    expect(approximate.body.source).toBe('approximate graph');
+    expect(approximate.body.items).toHaveLength(10);
+    // No approximate neighbour list can beat the exact one place by place (k = 16 is past the graph: an exact search).
+    const exact = await ask(16);
+    expect(exact.body.source).toBe('exact search');
+    approximate.body.items.forEach((item, s) => expect(item.distance).toBeGreaterThanOrEqual((exact.body.items[s]?.distance ?? Infinity) - 1e-6));
+
+    // A graph cached by an older version of the search is not used, and the next job replaces it.
+    await testDb().updateTable('knn_graphs').set({ method: `NN-descent ${APPROX_GRAPH_VERSION - 1} (seed ${KNN_CACHE_SEED})` }).where('factor_set_id', '=', id).execute();
+    expect((await ask(10)).body.source).toBe('exact search');
+    const second = await run(2);
+    expect(second.status, second.error ?? '').toBe('done');
+    const replaced = await graph();
+    expect(replaced.method).toBe(current);
+    expect(replaced.created_at.getTime()).toBeGreaterThan(stored.created_at.getTime());
+    expect((await ask(10)).body.source).toBe('approximate graph');
+  }, 240_000);
 });
 
 describe('readMatrixRow', () => {
