@@ -57,6 +57,18 @@ describe('WebAssembly keys', () => {
     expect(() => wasm?.keys([4], 1)).toThrow(RangeError);
   });
 
+  it('no committed WebAssembly module writes into the memory it is given (no static data)', () => {
+    // AssemblyScript would place static data (e.g. Math.pow's tables) at the start of the imported
+    // memory, where our callers lay out their arrays.
+    for (const file of ['key-rows.wasm', 'descent-join.wasm']) {
+      const module = new WebAssembly.Module(readFileSync(path.join(root, 'lib/projection', file)));
+      const memory = new WebAssembly.Memory({ initial: 2, maximum: 2, shared: true });
+      new Uint8Array(memory.buffer).fill(0xa5);
+      new WebAssembly.Instance(module, { env: { memory } });
+      expect(new Uint8Array(memory.buffer).every((byte) => byte === 0xa5), file).toBe(true);
+    }
+  });
+
   it('are committed as the AssemblyScript source compiles (npm run build:wasm)', () => {
     const folder = mkdtempSync(path.join(tmpdir(), 'asterism-wasm-'));
     try {
