@@ -108,7 +108,7 @@ export async function runClusteringJob(db: Kysely<Database>, clusteringId: strin
       onProgress(0, 'neighbour graph');
       // Below the exact limit a graph beyond the cached k would be a one-off search as costly as
       // hdbscan's own core-distance pass, so only the cached graph is used there.
-      const cached = large || needK <= cachedK(n, d) ? await factorSetGraph(db, factorSet, values, 'euclidean', needK) : undefined;
+      const cached = large || needK <= cachedK(n, d) ? await factorSetGraph(db, factorSet, values, 'euclidean', needK, { onProgress: (share, phase) => onProgress(0.1 * share, phase) }) : undefined;
       // An approximate graph's core distances are slightly too large where it missed a neighbour;
       // below the exact limit the direct pass is used instead.
       const knn = cached && (cached.exact || large) ? cached.graph : undefined;

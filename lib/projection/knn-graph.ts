@@ -39,7 +39,13 @@ export interface KnnGraphOptions {
   /** Aborting rejects with the signal's reason. */
   signal?: AbortSignal;
   /** Settings of the approximate search (defaults documented in knn-approx.ts). */
-  approximate?: Omit<ApproxKnnOptions, 'threads' | 'signal'>;
+  approximate?: Omit<ApproxKnnOptions, 'threads' | 'signal' | 'onProgress'>;
+  /**
+   * Progress of either search: the fraction done (0–1) and a phase in words. The exact search
+   * reports only on worker threads (below PARALLEL_EXACT_MIN_POINTS it takes well under a second).
+   * Throwing from it rejects the search with that error.
+   */
+  onProgress?: (fraction: number, phase: string) => void;
 }
 
 /** A neighbour graph and how it was made (stored with a cached graph, shown with a projection). */
@@ -67,17 +73,22 @@ export async function knnGraph(data: Float32Array, n: number, d: number, k: numb
   const strategy = options.strategy ?? 'auto';
   if (strategy !== 'auto' && strategy !== 'exact' && strategy !== 'approximate') throw new RangeError(`neighbour graph: unknown strategy ${JSON.stringify(strategy)}`);
   const exact = strategy === 'exact' || (strategy === 'auto' && exactIsAffordable(n, d));
-  const { signal } = options;
+  const { signal, onProgress } = options;
   if (exact) {
     // Below PARALLEL_EXACT_MIN_POINTS one thread is faster, even where more are offered.
     const threads = n >= PARALLEL_EXACT_MIN_POINTS ? options.threads : 1;
-    const graph = await exactKnnParallel(data, n, d, k, metric, { ...(threads !== undefined ? { threads } : {}), ...(signal ? { signal } : {}) });
+    const graph = await exactKnnParallel(data, n, d, k, metric, {
+      ...(threads !== undefined ? { threads } : {}),
+      ...(signal ? { signal } : {}),
+      ...(onProgress ? { onProgress: (fraction: number) => onProgress(fraction, 'neighbour graph: exact search') } : {}),
+    });
     return { graph, exact: true };
   }
   const graph = await approxKnn(data, n, d, k, metric, random, {
     ...options.approximate,
     ...(options.threads !== undefined ? { threads: options.threads } : {}),
     ...(signal ? { signal } : {}),
+    ...(onProgress ? { onProgress } : {}),
   });
   return { graph, exact: false };
 }

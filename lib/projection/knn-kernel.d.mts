@@ -18,6 +18,7 @@ export declare function scanBlockRows(
   blockRows: ArrayLike<number>,
   heapKey: Float64Array,
   heapIndex: Int32Array,
+  onBlockRow?: (tiles: number) => void,
 ): void;
 export declare function finishHeaps(
   heapKey: Float64Array,

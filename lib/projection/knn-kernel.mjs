@@ -183,8 +183,9 @@ export function pairKey(x, norms, d, i, j) {
  * @param {ArrayLike<number>} blockRows indices of the block rows to scan
  * @param {Float64Array} heapKey n × k
  * @param {Int32Array} heapIndex n × k
+ * @param {(tiles: number) => void} [onBlockRow] after each block row, with the tiles it scanned
  */
-export function scanBlockRows(x, norms, n, d, k, blockSize, blockRows, heapKey, heapIndex) {
+export function scanBlockRows(x, norms, n, d, k, blockSize, blockRows, heapKey, heapIndex, onBlockRow) {
   const blocks = Math.ceil(n / blockSize);
   for (let r = 0; r < blockRows.length; r++) {
     const I = blockRows[r];
@@ -195,6 +196,7 @@ export function scanBlockRows(x, norms, n, d, k, blockSize, blockRows, heapKey, 
       const j0 = J * blockSize;
       offDiagonalTile(x, norms, d, k, i0, i1, j0, Math.min(n, j0 + blockSize), heapKey, heapIndex);
     }
+    onBlockRow?.(blocks - I);
   }
 }
 

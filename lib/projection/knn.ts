@@ -74,9 +74,16 @@ export interface ExactKnnParallelOptions extends ExactKnnOptions {
   threads?: number;
   /** Aborting terminates the workers and rejects with the signal's reason (a cancelled job). */
   signal?: AbortSignal;
+  /**
+   * Called about every PROGRESS_INTERVAL_MS while the workers scan, with the share of tiles done
+   * (0–1). Throwing from it rejects the search with that error.
+   */
+  onProgress?: (fraction: number) => void;
 }
 
 export const KNN_DEFAULT_BLOCK_SIZE = 128;
+/** How often exactKnnParallel reads its workers' shared tile counter, in milliseconds. */
+const PROGRESS_INTERVAL_MS = 200;
 
 /** Maps the metric name to the kernel's code; throws on anything else (input from an API). */
 export function metricCode(metric: KnnMetric): MetricCode {
@@ -207,13 +214,26 @@ export async function exactKnnParallel(
   const assignment = assignBlockRows(blocks, threads);
   const workers: Worker[] = [];
   const url = new URL('./knn-worker.mjs', import.meta.url);
+  const tilesDone = new Int32Array(new SharedArrayBuffer(Int32Array.BYTES_PER_ELEMENT));
+  const tiles = (blocks * (blocks + 1)) / 2;
   let onAbort: (() => void) | undefined;
+  let timer: ReturnType<typeof setInterval> | undefined;
   try {
     await new Promise<void>((resolve, reject) => {
       let pending = threads;
       const fail = (error: unknown) => reject(error instanceof Error ? error : new Error(String(error)));
       onAbort = () => fail(options.signal?.reason ?? new Error('neighbour search cancelled'));
       options.signal?.addEventListener('abort', onAbort, { once: true });
+      const { onProgress } = options;
+      if (onProgress) {
+        timer = setInterval(() => {
+          try {
+            onProgress(Math.min(1, Atomics.load(tilesDone, 0) / tiles));
+          } catch (error) {
+            fail(error);
+          }
+        }, PROGRESS_INTERVAL_MS);
+      }
       for (let slot = 0; slot < threads; slot++) {
         const worker = new Worker(url);
         workers.push(worker);
@@ -229,10 +249,11 @@ export async function exactKnnParallel(
           pending--;
           if (pending === 0) resolve();
         });
-        worker.postMessage({ rows: shared, n, d, k, blockSize, blockRows: assignment[slot], heapKeys, heapIndices, slot });
+        worker.postMessage({ rows: shared, n, d, k, blockSize, blockRows: assignment[slot], heapKeys, heapIndices, slot, tilesDone: tilesDone.buffer });
       }
     });
   } finally {
+    if (timer !== undefined) clearInterval(timer);
     if (onAbort !== undefined) options.signal?.removeEventListener('abort', onAbort);
     // A finished worker waits for the next message; terminate it (exit code 1, ignored above
     // because the promise has settled by then).

@@ -108,7 +108,7 @@ export async function factorSetGraph(
   values: Float32Array,
   metric: KnnMetric,
   k: number,
-  options: { threads?: number; signal?: AbortSignal } = {},
+  options: { threads?: number; signal?: AbortSignal; onProgress?: (fraction: number, phase: string) => void } = {},
 ): Promise<CachedGraph> {
   const n = factorSet.rows;
   const d = factorSet.dims;
@@ -120,6 +120,7 @@ export async function factorSetGraph(
     knnGraph(values, n, d, searchK, metric, mulberry32(KNN_CACHE_SEED), {
       ...(options.threads !== undefined ? { threads: options.threads } : {}),
       ...(options.signal ? { signal: options.signal } : {}),
+      ...(options.onProgress ? { onProgress: options.onProgress } : {}),
     });
   if (k > canonicalK) {
     // Beyond the canonical k (UMAP with many neighbours): a search of its own, not stored.

@@ -68,7 +68,9 @@ export async function runProjectionJob(db: Kysely<Database>, projectionId: strin
     // for larger sets.
     const k = Math.min(n - 1, Math.max(projection.method === 'umap' ? nNeighbors - 1 : 0, scoreFidelity ? Math.max(...FIDELITY_KS, PRESERVATION_K) : PRESERVATION_K));
     report(0.02, 'neighbour graph', true);
-    const cached = k >= 1 ? await factorSetGraph(db, factorSet, values, metric, k, { threads: options.threads, signal: controller.signal }) : undefined;
+    const cached = k >= 1
+      ? await factorSetGraph(db, factorSet, values, metric, k, { threads: options.threads, signal: controller.signal, onProgress: (fraction, phase) => report(0.02 + 0.03 * fraction, phase) })
+      : undefined;
     const knn = cached?.graph;
     if (controller.signal.aborted) throw new Cancelled('cancelled');
 

@@ -188,6 +188,23 @@ describe('exactKnnParallel (worker threads over SharedArrayBuffers)', () => {
     await expect(exactKnnParallel(data, n, d, 5, 'euclidean', { threads: 0 })).rejects.toThrow(/threads must be an integer/);
   });
 
+  it('reports the share of tiles done while it runs, and stops when its progress callback throws', async () => {
+    // 16,000 × 32: over a second on two threads, so several progress ticks.
+    const big = new Float32Array(16_000 * 32);
+    for (let index = 0; index < big.length; index++) big[index] = normal();
+    const seen: number[] = [];
+    await exactKnnParallel(big, 16_000, 32, 15, 'euclidean', { threads: 2, onProgress: (f) => seen.push(f) });
+    expect(seen.length).toBeGreaterThan(0);
+    for (let s = 0; s < seen.length; s++) {
+      expect(seen[s] as number).toBeGreaterThanOrEqual(s > 0 ? (seen[s - 1] as number) : 0);
+      expect(seen[s] as number).toBeLessThanOrEqual(1);
+    }
+    const stop = () => {
+      throw new Error('stop here');
+    };
+    await expect(exactKnnParallel(big, 16_000, 32, 15, 'euclidean', { threads: 2, onProgress: stop })).rejects.toThrow('stop here');
+  }, 60_000);
+
   it('balances block rows: every row once, loads within one row of work', () => {
     const blocks = 40;
     const assignment = assignBlockRows(blocks, 3);
