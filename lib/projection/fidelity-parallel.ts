@@ -55,6 +55,13 @@ export interface ParallelFidelityOptions extends ProjectionFidelityOptions {
   signal?: AbortSignal;
 }
 
+/** The thread count asked for, checked: 1–64, default os.availableParallelism() (at most 64). */
+function threadsAsked(threads: number | undefined): number {
+  const requested = threads ?? Math.min(64, availableParallelism());
+  if (!Number.isInteger(requested) || requested < 1 || requested > 64) throw new RangeError(`fidelity: threads must be an integer from 1 to 64, got ${requested}`);
+  return requested;
+}
+
 interface RankTask {
   rows: SharedArrayBuffer;
   d: number;
@@ -82,8 +89,7 @@ export async function projectionFidelityParallel(
   random: UniformGenerator,
   options: ParallelFidelityOptions = {},
 ): Promise<ProjectionFidelity> {
-  const requested = options.threads ?? Math.min(64, availableParallelism());
-  if (!Number.isInteger(requested) || requested < 1 || requested > 64) throw new RangeError(`fidelity: threads must be an integer from 1 to 64, got ${requested}`);
+  const requested = threadsAsked(options.threads);
   const { signal, onProgress } = options;
   signal?.throwIfAborted();
   if (requested === 1 || n < PARALLEL_FIDELITY_MIN_POINTS) return projectionFidelity(latent, n, d, map, random, options);
@@ -155,8 +161,7 @@ export async function sampledRankScoresParallel(
   queries: ArrayLike<number>,
   options: SampledRankOptions & { threads?: number; signal?: AbortSignal } = {},
 ): Promise<SampledRankScores> {
-  const requested = options.threads ?? Math.min(64, availableParallelism());
-  if (!Number.isInteger(requested) || requested < 1 || requested > 64) throw new RangeError(`fidelity: threads must be an integer from 1 to 64, got ${requested}`);
+  const requested = threadsAsked(options.threads);
   const { signal, onProgress } = options;
   signal?.throwIfAborted();
   const m = queries.length;
