@@ -95,8 +95,12 @@ export async function projectionFidelityParallel(
   if (requested === 1 || n < PARALLEL_FIDELITY_MIN_POINTS) return projectionFidelity(latent, n, d, map, random, options);
 
   const plan = fidelityPlan(n, map, options);
+  // Without a latent graph its exact search (O(n²·d), like the ranks' latent half) takes the
+  // first third of the progress; the map's (2-D) is quick and reports nothing.
+  const searchShare = options.latentKnn ? 0 : 1 / 3;
   const search = { threads: requested, ...(signal ? { signal } : {}) };
-  const latentKnn = options.latentKnn ?? (await exactKnnParallel(latent, n, d, plan.graphK, plan.metric, search));
+  const latentKnn =
+    options.latentKnn ?? (await exactKnnParallel(latent, n, d, plan.graphK, plan.metric, { ...search, ...(onProgress ? { onProgress: (f: number) => onProgress(searchShare * f) } : {}) }));
   const mapKnn = options.mapKnn ?? (await exactKnnParallel(map, n, plan.mapDims, plan.graphK, 'euclidean', search));
   checkFidelityGraphs(plan, n, latentKnn, mapKnn);
   let sums: RankSums | undefined;
@@ -107,7 +111,8 @@ export async function projectionFidelityParallel(
     ];
     // Rough cost of one query in each task (its key row, then the rank pass), for the progress bar.
     const weights = [d + 2, plan.mapDims + 2] as const;
-    const [trust, continuity] = await rankSumsOnWorkers(tasks, weights, n, plan.validKs, requested, signal, onProgress);
+    const rankProgress = onProgress && ((f: number) => onProgress(searchShare + (1 - searchShare) * f));
+    const [trust, continuity] = await rankSumsOnWorkers(tasks, weights, n, plan.validKs, requested, signal, rankProgress);
     sums = { trust, continuity };
   }
   onProgress?.(1);
