@@ -46,8 +46,9 @@ const PROGRESS_INTERVAL_MS = 200;
 
 export interface ParallelFidelityOptions extends ProjectionFidelityOptions {
   /**
-   * Worker threads, 1–64; default os.availableParallelism(). 1, or fewer than
-   * PARALLEL_FIDELITY_MIN_POINTS points, runs projectionFidelity on the calling thread. More
+   * Worker threads, 1–64; default os.availableParallelism(). Even 1 is a worker thread, which
+   * keeps the caller's event loop free for progress reports and cancellation; only below
+   * PARALLEL_FIDELITY_MIN_POINTS points does projectionFidelity run on the calling thread. More
    * threads than cores only adds contention.
    */
   threads?: number;
@@ -92,7 +93,7 @@ export async function projectionFidelityParallel(
   const requested = threadsAsked(options.threads);
   const { signal, onProgress } = options;
   signal?.throwIfAborted();
-  if (requested === 1 || n < PARALLEL_FIDELITY_MIN_POINTS) return projectionFidelity(latent, n, d, map, random, options);
+  if (n < PARALLEL_FIDELITY_MIN_POINTS) return projectionFidelity(latent, n, d, map, random, options);
 
   const plan = fidelityPlan(n, map, options);
   // Without a latent graph its exact search (O(n²·d), like the ranks' latent half) takes the
@@ -155,7 +156,8 @@ function addInto(total: Float64Array, values: readonly number[]): void {
 /**
  * sampledRankScores (fidelity.ts) on worker threads, each taking a contiguous share of the queries:
  * the same estimates bit for bit (integer sums and counts), with progress and cancellation.
- * Threads as projectionFidelityParallel; below PARALLEL_SAMPLED_MIN_WORK it runs on this thread.
+ * Threads as projectionFidelityParallel (1 is one worker); below PARALLEL_SAMPLED_MIN_WORK it runs
+ * on this thread.
  */
 export async function sampledRankScoresParallel(
   latent: Float32Array,
@@ -171,7 +173,7 @@ export async function sampledRankScoresParallel(
   signal?.throwIfAborted();
   const m = queries.length;
   const threads = Math.min(requested, m);
-  if (threads <= 1 || m * n < PARALLEL_SAMPLED_MIN_WORK) return sampledRankScores(latent, n, d, map, ks, queries, options);
+  if (m === 0 || m * n < PARALLEL_SAMPLED_MIN_WORK) return sampledRankScores(latent, n, d, map, ks, queries, options);
 
   const { metric, mapDims, preservationK, kMax } = sampledPlan(n, map, ks, queries, options);
   const rows = sharedRows(latent, n, d, metric);
