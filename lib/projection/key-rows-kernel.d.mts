@@ -7,3 +7,4 @@ export declare class WasmKeyRows {
   readonly maxQueries: number;
   keys(ids: ArrayLike<number>, count: number): Float64Array;
 }
+export declare function keyReader(rows: Float64Array, norms: Float64Array, n: number, d: number, maxQueries: number): (ids: ArrayLike<number>, count: number) => Float64Array;

@@ -7,10 +7,11 @@
  *
  * Each instance owns a memory holding a coordinate-interleaved copy of the rows (n · d · 8 bytes,
  * the same again as the rows themselves) and room for maxQueries key rows. Above
- * WASM_KEY_ROWS_MAX_BYTES, or where WebAssembly SIMD is missing, create() returns null and the
- * caller computes the keys in JavaScript.
+ * WASM_KEY_ROWS_MAX_BYTES, or where WebAssembly SIMD is missing, create() returns null;
+ * keyReader at the end serves either way.
  */
 import { readFileSync } from 'node:fs';
+import { keyRowsAt } from './knn-kernel.mjs';
 
 /** Largest memory one instance takes (2 GiB; WebAssembly's 32-bit addresses stop at 4 GiB). */
 export const WASM_KEY_ROWS_MAX_BYTES = 2 ** 31;
@@ -103,4 +104,25 @@ export class WasmKeyRows {
     for (let r = 0; r < count; r += 4) this.run(paired, norms, this.n, this.d, idsAt + r * 4, Math.min(4, count - r), out + r * this.n * 8);
     return this.out.subarray(0, count * this.n);
   }
+}
+
+/**
+ * Keys from up to maxQueries query rows at a time to every row, as reader(ids, count) → a
+ * count × n view valid until the next call: WebAssembly where WasmKeyRows.create can hold the
+ * rows, else knn-kernel.mjs keyRowsAt into scratch of this reader's own. The same bits either way.
+ * @param {Float64Array} rows prepared rows, n × d
+ * @param {Float64Array} norms their squared norms
+ * @param {number} n
+ * @param {number} d
+ * @param {number} maxQueries
+ * @returns {(ids: ArrayLike<number>, count: number) => Float64Array}
+ */
+export function keyReader(rows, norms, n, d, maxQueries) {
+  const wasm = WasmKeyRows.create(rows, norms, n, d, maxQueries);
+  if (wasm) return (ids, count) => wasm.keys(ids, count);
+  const out = new Float64Array(maxQueries * n);
+  return (ids, count) => {
+    keyRowsAt(rows, norms, n, d, Array.prototype.slice.call(ids, 0, count), out);
+    return out.subarray(0, count * n);
+  };
 }

@@ -9,8 +9,7 @@
  * so partial sums over query ranges add up to the same bits in any order and on any number of
  * threads.
  */
-import { WasmKeyRows } from './key-rows-kernel.mjs';
-import { keyRows, keyRowsAt } from './knn-kernel.mjs';
+import { keyReader } from './key-rows-kernel.mjs';
 
 /** Query rows whose distance rows are computed together: QUERY_BLOCK × n × 8 bytes of scratch. */
 export const QUERY_BLOCK = 16;
@@ -109,21 +108,15 @@ export function addRankPenalties(keys, n, i, neighbours, ks, kMax, scratch, sums
 export function rankPenaltyRange(rows, norms, n, d, indices, stride, ks, q0, q1, sums, onBlock) {
   let kMax = 0;
   for (let index = 0; index < ks.length; index++) kMax = Math.max(kMax, ks[index]);
+  if (q1 <= q0) return;
   const ranks = rankScratch(kMax);
-  // The keys in WebAssembly SIMD (the same bits, ~2.5 times as fast; see assembly/key-rows.ts)
-  // unless the rows are too large for its memory.
-  const wasm = q1 > q0 ? WasmKeyRows.create(rows, norms, n, d, QUERY_BLOCK) : null;
-  const scratch = wasm ? new Float64Array(0) : new Float64Array(QUERY_BLOCK * n);
+  // In WebAssembly SIMD where it fits (the same bits, ~2.5 times as fast; see assembly/key-rows.ts).
+  const readKeys = keyReader(rows, norms, n, d, QUERY_BLOCK);
   const ids = new Int32Array(QUERY_BLOCK);
   for (let b0 = q0; b0 < q1; b0 += QUERY_BLOCK) {
     const b1 = Math.min(q1, b0 + QUERY_BLOCK);
-    let keys = scratch;
-    if (wasm) {
-      for (let r = 0; r < b1 - b0; r++) ids[r] = b0 + r;
-      keys = wasm.keys(ids, b1 - b0);
-    } else {
-      keyRows(rows, norms, n, d, b0, b1, scratch);
-    }
+    for (let r = 0; r < b1 - b0; r++) ids[r] = b0 + r;
+    const keys = readKeys(ids, b1 - b0);
     for (let i = b0; i < b1; i++) {
       addRankPenalties(keys.subarray((i - b0) * n, (i - b0 + 1) * n), n, i, indices.subarray(i * stride, i * stride + kMax), ks, kMax, ranks, sums);
     }
@@ -163,8 +156,8 @@ function nearestByKey(keys, n, i, kMax, outId, outKey) {
  * query ranked against all n points in both spaces, its trustworthiness and continuity penalties
  * added to trustSums and continuitySums; returns how many of the queries' preservationK latent
  * neighbours are among their preservationK map neighbours. Latent keys of four queries at a time
- * (WasmKeyRows, or keyRowsAt past its memory; both load each point's row once for four, and the
- * keys do not depend on the grouping).
+ * (keyReader: each point's row is loaded once for four, and the keys do not depend on the
+ * grouping).
  * @param {Float64Array} rows latent rows prepared as knn.ts does, n × d
  * @param {Float64Array} norms their squared norms
  * @param {number} n
@@ -183,9 +176,10 @@ function nearestByKey(keys, n, i, kMax, outId, outKey) {
  * @returns {number}
  */
 export function sampledRankRange(rows, norms, n, d, map, mapDims, ks, kMax, preservationK, queries, r0, r1, trustSums, continuitySums, onQuery) {
+  if (r1 <= r0) return 0;
   const block = 4;
-  const wasm = r1 > r0 ? WasmKeyRows.create(rows, norms, n, d, block) : null;
-  let blockKeys = wasm ? new Float64Array(0) : new Float64Array(block * n);
+  const readKeys = keyReader(rows, norms, n, d, block);
+  let blockKeys = new Float64Array(0);
   const mapKeys = new Float64Array(n);
   const mapId = new Int32Array(kMax);
   const mapKey = new Float64Array(kMax);
@@ -198,8 +192,7 @@ export function sampledRankRange(rows, norms, n, d, map, mapDims, ks, kMax, pres
     const slot = (r - r0) % block;
     if (slot === 0) {
       const ids = Array.prototype.slice.call(queries, r, Math.min(r1, r + block));
-      if (wasm) blockKeys = wasm.keys(ids, ids.length);
-      else keyRowsAt(rows, norms, n, d, ids, blockKeys);
+      blockKeys = readKeys(ids, ids.length);
     }
     const latentKeys = blockKeys.subarray(slot * n, (slot + 1) * n);
     for (let l = 0; l < n; l++) {
