@@ -32,7 +32,7 @@ import {
   sampledScoresFromSums,
 } from './fidelity';
 import { type KnnGraph, exactKnnParallel, prepareKnnRows } from './knn';
-import { type WorkerReply, askWorker } from './worker-request';
+import { type WorkerReply, askWorker, pollProgress } from './worker-request';
 
 /** Below this many points the scores take well under a second on one thread and workers are not started. */
 export const PARALLEL_FIDELITY_MIN_POINTS = 2000;
@@ -41,8 +41,6 @@ export const PARALLEL_FIDELITY_MIN_POINTS = 2000;
  * (500 queries × 20,000 points: ~0.3 s there, about what starting the workers saves).
  */
 export const PARALLEL_SAMPLED_MIN_WORK = 10_000_000;
-/** How often the shared progress counters are read, in milliseconds. */
-const PROGRESS_INTERVAL_MS = 200;
 
 export interface ParallelFidelityOptions extends ProjectionFidelityOptions {
   /**
@@ -204,7 +202,7 @@ export async function sampledRankScoresParallel(
 /**
  * Starts `threads` rank workers, runs `work` on each (its thread number and the shared progress
  * counters, `slots` Int32 entries), and resolves when all have finished. Meanwhile calls
- * onProgress(fraction(counters)) every PROGRESS_INTERVAL_MS; a throw from it, a failed worker or
+ * onProgress(fraction(counters)) every PROGRESS_INTERVAL_MS (worker-request.ts); a throw from it, a failed worker or
  * the signal's abort rejects at once. The workers are terminated either way.
  */
 async function onRankWorkers(
@@ -219,7 +217,7 @@ async function onRankWorkers(
   const progress = new Int32Array(buffer);
   const url = new URL('./rank-worker.mjs', import.meta.url);
   const workers: Worker[] = [];
-  let timer: ReturnType<typeof setInterval> | undefined;
+  let stopProgress = (): void => undefined;
   let onAbort: (() => void) | undefined;
   try {
     await new Promise<void>((resolve, reject) => {
@@ -231,15 +229,7 @@ async function onRankWorkers(
         return;
       }
       signal?.addEventListener('abort', onAbort, { once: true });
-      if (onProgress) {
-        timer = setInterval(() => {
-          try {
-            onProgress(Math.min(1, fraction(progress)));
-          } catch (error) {
-            fail(error);
-          }
-        }, PROGRESS_INTERVAL_MS);
-      }
+      stopProgress = pollProgress(onProgress, () => fraction(progress), fail);
       let pending = threads;
       for (let thread = 0; thread < threads; thread++) {
         const worker = new Worker(url);
@@ -254,7 +244,7 @@ async function onRankWorkers(
       }
     });
   } finally {
-    if (timer !== undefined) clearInterval(timer);
+    stopProgress();
     if (onAbort !== undefined) signal?.removeEventListener('abort', onAbort);
     await Promise.all(workers.map((worker) => worker.terminate()));
   }

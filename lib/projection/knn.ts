@@ -20,7 +20,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
-import { isWorkerReply } from './worker-request';
+import { isWorkerReply, pollProgress } from './worker-request';
 import {
   EMPTY_INDEX,
   METRIC_COSINE,
@@ -75,15 +75,13 @@ export interface ExactKnnParallelOptions extends ExactKnnOptions {
   /** Aborting terminates the workers and rejects with the signal's reason (a cancelled job). */
   signal?: AbortSignal;
   /**
-   * Called about every PROGRESS_INTERVAL_MS while the workers scan, with the share of tiles done
+   * Called about every PROGRESS_INTERVAL_MS (worker-request.ts) while the workers scan, with the share of tiles done
    * (0–1). Throwing from it rejects the search with that error.
    */
   onProgress?: (fraction: number) => void;
 }
 
 export const KNN_DEFAULT_BLOCK_SIZE = 128;
-/** How often exactKnnParallel reads its workers' shared tile counter, in milliseconds. */
-const PROGRESS_INTERVAL_MS = 200;
 
 /** Maps the metric name to the kernel's code; throws on anything else (input from an API). */
 export function metricCode(metric: KnnMetric): MetricCode {
@@ -217,23 +215,14 @@ export async function exactKnnParallel(
   const tilesDone = new Int32Array(new SharedArrayBuffer(Int32Array.BYTES_PER_ELEMENT));
   const tiles = (blocks * (blocks + 1)) / 2;
   let onAbort: (() => void) | undefined;
-  let timer: ReturnType<typeof setInterval> | undefined;
+  let stopProgress = (): void => undefined;
   try {
     await new Promise<void>((resolve, reject) => {
       let pending = threads;
       const fail = (error: unknown) => reject(error instanceof Error ? error : new Error(String(error)));
       onAbort = () => fail(options.signal?.reason ?? new Error('neighbour search cancelled'));
       options.signal?.addEventListener('abort', onAbort, { once: true });
-      const { onProgress } = options;
-      if (onProgress) {
-        timer = setInterval(() => {
-          try {
-            onProgress(Math.min(1, Atomics.load(tilesDone, 0) / tiles));
-          } catch (error) {
-            fail(error);
-          }
-        }, PROGRESS_INTERVAL_MS);
-      }
+      stopProgress = pollProgress(options.onProgress, () => Atomics.load(tilesDone, 0) / tiles, fail);
       for (let slot = 0; slot < threads; slot++) {
         const worker = new Worker(url);
         workers.push(worker);
@@ -253,7 +242,7 @@ export async function exactKnnParallel(
       }
     });
   } finally {
-    if (timer !== undefined) clearInterval(timer);
+    stopProgress();
     if (onAbort !== undefined) options.signal?.removeEventListener('abort', onAbort);
     // A finished worker waits for the next message; terminate it (exit code 1, ignored above
     // because the promise has settled by then).

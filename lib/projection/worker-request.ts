@@ -1,6 +1,7 @@
 /**
- * One request to a worker thread of the projection kernels (knn.ts, knn-approx.ts, umap-batch.ts)
- * and its answer. Every worker answers each message with { ok: true, … } or { ok: false, message }.
+ * One request to a worker thread of the projection kernels (knn.ts, knn-approx.ts, umap-batch.ts,
+ * fidelity-parallel.ts) and its answer, and the polling of a pool's shared progress counters.
+ * Every worker answers each message with { ok: true, … } or { ok: false, message }.
  */
 import type { Worker } from 'node:worker_threads';
 
@@ -46,4 +47,24 @@ export function askWorker<Reply extends WorkerReply = WorkerReply>(worker: Worke
     worker.once('exit', onExit);
     worker.postMessage(message);
   });
+}
+
+/** How often a worker pool's shared progress counters are read, in milliseconds. */
+export const PROGRESS_INTERVAL_MS = 200;
+
+/**
+ * While worker threads count their progress into shared memory: calls onProgress(read()) every
+ * PROGRESS_INTERVAL_MS (read() clamped to 1) and hands a throw from it to `fail`. Returns the stop
+ * function (nothing is polled without onProgress).
+ */
+export function pollProgress(onProgress: ((fraction: number) => void) | undefined, read: () => number, fail: (error: unknown) => void): () => void {
+  if (!onProgress) return () => undefined;
+  const timer = setInterval(() => {
+    try {
+      onProgress(Math.min(1, read()));
+    } catch (error) {
+      fail(error);
+    }
+  }, PROGRESS_INTERVAL_MS);
+  return () => clearInterval(timer);
 }
