@@ -13,6 +13,19 @@ interface WireProjection {
   versions: Record<string, string> | null;
 }
 
+/** Requests a projection (new or existing) and waits until it is done or failed. */
+async function projectAndWait(factorSetId: string, token: string, body: object, timeoutMs: number): Promise<WireProjection> {
+  const queued = await api<{ id: string }>('POST', `/api/factor-sets/${factorSetId}/projections`, { token, body });
+  expect([200, 202]).toContain(queued.status);
+  const deadline = Date.now() + timeoutMs;
+  for (;;) {
+    const p = (await api<WireProjection>('GET', `/api/projections/${queued.body.id}`, { token })).body;
+    if (p.status === 'done' || p.status === 'failed') return p;
+    if (Date.now() > deadline) throw new Error(`projection still ${p.status}`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
+}
+
 /** One neighbour graph per factor set and metric, computed by the first job and reused by the next. */
 describe('the cached neighbour graph', () => {
   let f: RoleFixture;
@@ -31,17 +44,7 @@ describe('the cached neighbour graph', () => {
     factorSetId = created.body.id;
   });
 
-  async function project(body: object): Promise<WireProjection> {
-    const queued = await api<{ id: string }>('POST', `/api/factor-sets/${factorSetId}/projections`, { token: f.members.analyst.token, body });
-    expect([200, 202]).toContain(queued.status);
-    const deadline = Date.now() + 90_000;
-    for (;;) {
-      const p = (await api<WireProjection>('GET', `/api/projections/${queued.body.id}`, { token: f.members.analyst.token })).body;
-      if (p.status === 'done' || p.status === 'failed') return p;
-      if (Date.now() > deadline) throw new Error(`projection still ${p.status}`);
-      await new Promise((r) => setTimeout(r, 250));
-    }
-  }
+  const project = (body: object) => projectAndWait(factorSetId, f.members.analyst.token, body, 90_000);
 
   const graphs = () => testDb().selectFrom('knn_graphs').select(['metric', 'k', 'exact', 'created_at']).where('factor_set_id', '=', factorSetId).execute();
 
@@ -99,17 +102,7 @@ describe('the cached approximate neighbour graph of a large set', () => {
     expect(created.status).toBe(201);
     const id = created.body.id;
     const current = `NN-descent ${APPROX_GRAPH_VERSION} (seed ${KNN_CACHE_SEED})`;
-    const run = async (seed: number): Promise<WireProjection> => {
-      const queued = await api<{ id: string }>('POST', `/api/factor-sets/${id}/projections`, { token: f.members.analyst.token, body: { method: 'pca', params: {}, seed } });
-      expect([200, 202]).toContain(queued.status);
-      const deadline = Date.now() + 120_000;
-      for (;;) {
-        const p = (await api<WireProjection>('GET', `/api/projections/${queued.body.id}`, { token: f.members.analyst.token })).body;
-        if (p.status === 'done' || p.status === 'failed') return p;
-        if (Date.now() > deadline) throw new Error(`projection still ${p.status}`);
-        await new Promise((r) => setTimeout(r, 250));
-      }
-    };
+    const run = (seed: number) => projectAndWait(id, f.members.analyst.token, { method: 'pca', params: {}, seed }, 120_000);
     const graph = () => testDb().selectFrom('knn_graphs').select(['exact', 'k', 'method', 'created_at']).where('factor_set_id', '=', id).where('metric', '=', 'euclidean').executeTakeFirstOrThrow();
 
     const first = await run(1);

@@ -5,15 +5,10 @@
  * equal bit for bit where both arithmetics are exact (small integers), within Float32 rounding
  * otherwise. And the committed binary is what the committed source compiles to.
  */
-import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { mulberry32 } from '@/lib/align/random';
 import { HeapMarks, Updates, WasmJoin, buildCandidates, descentLayout, heapPush, localJoin, squaredDistance } from '@/lib/projection/knn-descent-kernel.mjs';
-
-const root = path.resolve(import.meta.dirname, '../../..');
+import { committedWasmMatchesSource } from './wasm-fixtures';
 
 /** Heaps of K random neighbours per point and one iteration's candidate lists, in a fresh memory. */
 function joinFixture(n: number, d: number, K: number, C: number, seed: number, integers: boolean, outCap?: number) {
@@ -111,13 +106,6 @@ describe('the WebAssembly local join', () => {
   });
 
   it('is committed as the AssemblyScript source compiles (npm run build:wasm)', () => {
-    const folder = mkdtempSync(path.join(tmpdir(), 'asterism-wasm-'));
-    try {
-      const out = path.join(folder, 'descent-join.wasm');
-      execFileSync(path.join(root, 'node_modules/.bin/asc'), ['lib/projection/assembly/descent-join.ts', '--config', 'lib/projection/assembly/asconfig.json', '-o', out], { cwd: root, stdio: 'pipe' });
-      expect(readFileSync(out).equals(readFileSync(path.join(root, 'lib/projection/descent-join.wasm')))).toBe(true);
-    } finally {
-      rmSync(folder, { recursive: true, force: true });
-    }
+    expect(committedWasmMatchesSource('descent-join')).toBe(true);
   }, 60_000);
 });

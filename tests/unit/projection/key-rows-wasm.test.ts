@@ -5,17 +5,14 @@
  * odd and even row counts, any dimension, scattered and repeated queries, duplicate rows and cosine
  * rows; and the committed binary is what the committed source compiles to.
  */
-import { execFileSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { mulberry32, normalGenerator } from '@/lib/align/random';
 import { prepareKnnRows } from '@/lib/projection/knn';
 import { WASM_KEY_ROWS_MAX_BYTES, WasmKeyRows } from '@/lib/projection/key-rows-kernel.mjs';
 import { keyRowsAt, rowNorms } from '@/lib/projection/knn-kernel.mjs';
-
-const root = path.resolve(import.meta.dirname, '../../..');
+import { committedWasmMatchesSource, root } from './wasm-fixtures';
 
 function sameBits(a: Float64Array, b: Float64Array): boolean {
   if (a.length !== b.length) return false;
@@ -70,13 +67,6 @@ describe('WebAssembly keys', () => {
   });
 
   it('are committed as the AssemblyScript source compiles (npm run build:wasm)', () => {
-    const folder = mkdtempSync(path.join(tmpdir(), 'asterism-wasm-'));
-    try {
-      const out = path.join(folder, 'key-rows.wasm');
-      execFileSync(path.join(root, 'node_modules/.bin/asc'), ['lib/projection/assembly/key-rows.ts', '--config', 'lib/projection/assembly/asconfig.json', '-o', out], { cwd: root, stdio: 'pipe' });
-      expect(readFileSync(out).equals(readFileSync(path.join(root, 'lib/projection/key-rows.wasm')))).toBe(true);
-    } finally {
-      rmSync(folder, { recursive: true, force: true });
-    }
+    expect(committedWasmMatchesSource('key-rows')).toBe(true);
   }, 60_000);
 });
